@@ -1,0 +1,146 @@
+"""Stationary noise terms of the clock link, as sums of power laws in fractional frequency.
+
+Every stationary noise is written as ``S_y(f) = sum_i h_i f^alpha_i`` (one-sided, 1/Hz) with an
+upper cutoff per term, so that its passage through any pulse sequence's filter function has a
+closed form (:mod:`gwclock.filters`). A new noise is one function here and one entry in
+:data:`NOISES`. The per-cycle projection noise is not stationary; it is handled in
+:mod:`gwclock.projection`.
+
+References
+----------
+Photon shot noise of a heterodyne link and the far-field link budget: standard optics, e.g.
+Klein & Degnan 1974, Appl. Opt. 13, 2134 (truncated-Gaussian efficiency, from memory).
+Laser linewidth and Allan variance of power-law noise: Barnes et al. 1971, IEEE Trans. Instrum.
+Meas. 20, 105.
+Drag-free acceleration noise: Armano et al. 2016, Phys. Rev. Lett. 116, 231101.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.constants import c, h
+
+__all__ = ["PowerLaw", "psd", "received_power", "NOISES", "STATIONARY_NOISES"]
+
+
+@dataclass(frozen=True)
+class PowerLaw:
+    """One term ``level * f**alpha`` of a fractional-frequency PSD, nonzero for low <= f <= cutoff."""
+
+    level: float
+    alpha: int
+    cutoff: float = np.inf
+    low: float = 0.0
+
+    def __call__(self, f):
+        f = np.asarray(f, dtype=float)
+        inside = (f <= self.cutoff) & (f >= self.low)
+        return np.where(inside, self.level * np.where(inside, f, 1.0) ** self.alpha, 0.0)
+
+
+def psd(terms, f):
+    """Evaluate a list of :class:`PowerLaw` terms at frequencies ``f`` (Hz); returns 1/Hz."""
+    f = np.asarray(f, dtype=float)
+    total = np.zeros(f.shape)
+    for term in terms:
+        total = total + term(f)
+    return total
+
+
+def received_power(design):
+    """Received optical power of the far-field link, in W.
+
+    ``P_r = eta P_t pi^2 D_t^2 D_r^2 / (16 lambda^2 L^2)`` for a uniformly illuminated transmit
+    aperture (top hat), with eta the whole end-to-end efficiency.
+    """
+    lam = c / design.nu0
+    return (design.optical_efficiency * design.transmit_power * np.pi**2
+            * design.transmit_aperture**2 * design.receive_aperture**2 / (16 * lam**2 * design.baseline**2))
+
+
+def _legs(design):
+    return 2.0 if design.path == "two-way" else 1.0
+
+
+def pulse_bandwidth(design):
+    """Highest frequency (Hz) at which the pi pulses still sample the light phase: 1/(2 t_pi)."""
+    return 1.0 / (2.0 * design.pi_pulse_duration)
+
+
+def shot_terms(design):
+    """Photon shot noise copied onto the receiving laser by its phase lock.
+
+    Heterodyne phase noise ``S_phi = h nu / P_r`` (rad^2/Hz). Inside the phase-lock bandwidth B
+    the receiving laser copies it: ``S_y = (f/nu0)^2 S_phi``, white phase (alpha = 2). Above B the
+    loop passes ``(B/f)^2`` of it, a white-frequency plateau ``(B/nu0)^2 S_phi``. Both stop at the
+    pulse bandwidth 1/(2 t_pi). A two-way link has two received beams (twice the PSD).
+    """
+    s_phi = _legs(design) * h * design.nu0 / received_power(design)
+    top = pulse_bandwidth(design)
+    B = design.phase_lock_bandwidth
+    terms = [PowerLaw(s_phi / design.nu0**2, 2, min(B, top))]
+    if B < top:
+        terms.append(PowerLaw(s_phi * B**2 / design.nu0**2, 0, top, B))
+    return terms
+
+
+def laser_terms(design):
+    """The shared laser's own noise: white FM from the linewidth and a flicker-FM floor.
+
+    ``S_y = Delta_nu / (pi nu0^2)`` for a Lorentzian of FWHM Delta_nu, and
+    ``h_-1 = sigma_fl^2 / (2 ln 2)`` for a flicker floor sigma_fl of the Allan deviation.
+    """
+    terms = []
+    if design.linewidth > 0:
+        terms.append(PowerLaw(design.linewidth / (np.pi * design.nu0**2), 0))
+    if design.flicker_floor > 0:
+        terms.append(PowerLaw(design.flicker_floor**2 / (2 * np.log(2)), -1))
+    return terms
+
+
+def laser_residual_terms(design):
+    """Laser noise left after the synchronised common-mode cancellation of the two clocks.
+
+    Inside the phase-lock bandwidth B both clocks see the same laser: a timing mismatch dt leaves
+    ``4 sin^2(pi f dt) S_y ~ (2 pi f dt)^2 S_y`` (valid for f dt << 1), which turns white FM into
+    white PM and flicker FM into flicker PM; a gain mismatch eps leaves ``eps^2 S_y``. The
+    receiving laser's own noise outside the loop is not modelled (assumed below the other
+    terms). Rising terms stop at the pulse bandwidth 1/(2 t_pi).
+    """
+    out = []
+    top = pulse_bandwidth(design)
+    B = design.phase_lock_bandwidth
+    k_time = (2 * np.pi * design.timing_mismatch) ** 2
+    k_gain = design.gain_mismatch**2
+    for term in laser_terms(design):
+        if k_time > 0:
+            out.append(PowerLaw(k_time * term.level, term.alpha + 2, min(B, top)))
+        if k_gain > 0:
+            out.append(PowerLaw(k_gain * term.level, term.alpha, B))
+    return out
+
+
+def acceleration_terms(design):
+    """Drag-free test-mass acceleration noise of both spacecraft, as Doppler noise.
+
+    ``S_y = (S_a,A + S_a,B) / ((2 pi f)^2 c^2)`` for independent test masses with one-sided
+    ``S_a = a^2 [1 + (f_c / f)^2]`` (a = per-test-mass ASD, f_c = optional low-frequency corner).
+    """
+    level = _legs(design) * 2 * design.acceleration_noise**2 / ((2 * np.pi) ** 2 * c**2)
+    terms = [PowerLaw(level, -2)] if level > 0 else []
+    if level > 0 and design.acceleration_corner > 0:
+        terms.append(PowerLaw(level * design.acceleration_corner**2, -4))
+    return terms
+
+
+#: Stationary noises: name -> function(design) -> list of PowerLaw (fractional frequency).
+STATIONARY_NOISES = {
+    "shot": shot_terms,
+    "laser": laser_residual_terms,
+    "acceleration": acceleration_terms,
+}
+
+#: Every noise of the budget, in table-column order.
+NOISES = ("projection", "shot", "laser", "acceleration")

@@ -1,0 +1,97 @@
+"""Figures of noise budgets. Every function takes ``ax=None`` and returns its artists.
+
+matplotlib is imported here only, so that table-only runs never pay for it.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from .tables import atomic_path, check_output_path
+
+__all__ = ["plot_budget", "save_figure", "FIGURE_FORMATS", "NOISE_STYLE"]
+
+FIGURE_FORMATS = (".png", ".pdf", ".svg")
+
+# Colour-blind-safe hues (Okabe & Ito 2008) with distinct dash patterns for greyscale print.
+NOISE_STYLE = {
+    "projection": dict(color="#0072B2", linestyle=(0, (6, 2)), label="atom projection"),
+    "shot": dict(color="#D55E00", linestyle=(0, (2, 1.5)), label="photon shot (link)"),
+    "laser": dict(color="#009E73", linestyle=(0, (6, 2, 1, 2)), label="laser residual"),
+    "acceleration": dict(color="#CC79A7", linestyle=(0, (1, 1)), label="test-mass acceleration"),
+}
+
+
+def _new_axes(ax, size=(6.4, 4.2)):
+    if ax is not None:
+        return ax.figure, ax
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=size, layout="constrained")
+    return fig, fig.add_subplot()
+
+
+def plot_budget(budget, ax=None, title=None, components=True):
+    """Plot the total equivalent strain ASD and, optionally, each noise.
+
+    Parameters
+    ----------
+    budget : gwclock.engine.Budget
+    ax : matplotlib Axes, optional
+        Axes to draw on; a new figure is made when omitted.
+    title : str, optional
+    components : bool
+        Draw every noise term as well as the total.
+
+    Returns
+    -------
+    dict
+        ``{"total": Line2D, "<noise>": Line2D, ...}``.
+    """
+    fig, ax = _new_axes(ax)
+    f = budget.frequency
+    artists = {}
+    floor = np.max(budget.asd) * 1e-12
+    if components:
+        for name, style in NOISE_STYLE.items():
+            y = budget.asd_of(name)
+            y = np.where(y > floor, y, np.nan)
+            (artists[name],) = ax.plot(f, y, lw=1.3, **style)
+    label = "total (tuned envelope)" if budget.mode == "envelope" else \
+        f"total (fixed tuning {float(budget.tuning[0]):.3g} Hz)"
+    (artists["total"],) = ax.plot(f, budget.asd, color="black", lw=2.4, label=label)
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_xlabel("frequency [Hz]")
+    ax.set_ylabel(r"strain ASD [Hz$^{-1/2}$]")
+    good = budget.asd[np.isfinite(budget.asd)]
+    ax.set_ylim(good.min() / 5, min(good.max(), good.min() * 1e7) * 5)
+    ax.grid(True, which="major", alpha=0.35)
+    ax.grid(True, which="minor", alpha=0.12)
+    if title:
+        ax.set_title(title)
+    ax.legend(loc="upper right", fontsize="small", frameon=False)
+    if budget.mode == "envelope":
+        ax.text(0.01, 0.01, "envelope: each frequency at its own best tuning", transform=ax.transAxes,
+                fontsize="x-small", color="0.3", va="bottom")
+    return artists
+
+
+def save_figure(fig, path, dpi=200, metadata=None) -> Path:
+    """Save ``fig`` atomically as PNG, PDF or SVG (by suffix), with provenance metadata."""
+    p = check_output_path(path, FIGURE_FORMATS)
+    fmt = p.suffix.lower()[1:]
+    meta = dict(metadata or {})
+    if fmt == "png":
+        meta = {k: str(v) for k, v in meta.items()}
+    elif fmt == "pdf":
+        meta = {"Title": meta.get("Title", ""), "Creator": meta.get("Creator", "gwclock"),
+                "Subject": meta.get("Subject", "")}
+    else:
+        meta = {"Title": meta.get("Title", ""), "Creator": meta.get("Creator", "gwclock"),
+                "Description": meta.get("Subject", "")}
+    with atomic_path(p) as tmp:
+        fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
+    return p

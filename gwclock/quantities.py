@@ -1,0 +1,79 @@
+"""Parsing physical quantities written with units ("3e10 m", "40 mW").
+
+Config files and the command line carry units in their values; this module turns such text into
+:class:`astropy.units.Quantity` and checks the physical dimension.
+"""
+
+from __future__ import annotations
+
+import math
+
+import astropy.units as u
+
+__all__ = ["parse_quantity", "parse_frequency"]
+
+
+def parse_quantity(value: object, unit: u.UnitBase | str, *, allow_plain: bool = False) -> u.Quantity:
+    """Parse ``value`` into a Quantity convertible to ``unit``.
+
+    Parameters
+    ----------
+    value : str, Quantity or number
+        Text in astropy's unit syntax (``"3e-15 m / (s2 Hz(1/2))"``), a Quantity, or a plain
+        number when ``allow_plain`` is true (then it is taken to be in ``unit``).
+    unit : Unit or str
+        The unit the value must be convertible to.
+    allow_plain : bool
+        Accept plain numbers as values in ``unit``.
+
+    Returns
+    -------
+    Quantity
+        In ``unit``.
+
+    Raises
+    ------
+    ValueError
+        With a one-line message saying what was expected.
+
+    Examples
+    --------
+    >>> parse_quantity("40 mW", "W")
+    <Quantity 0.04 W>
+    """
+    unit = u.Unit(unit)
+    expected = f"a number with a unit of {unit.physical_type} such as '1 {unit.to_string()}'"
+    if isinstance(value, bool):
+        raise ValueError(f"expected {expected}")
+    if isinstance(value, u.Quantity):
+        q = value
+    elif isinstance(value, (int, float)):
+        if not allow_plain:
+            raise ValueError(f"missing unit: expected {expected}")
+        q = float(value) * unit
+    elif isinstance(value, str):
+        text = value.strip()
+        try:
+            q = u.Quantity(text)
+        except (TypeError, ValueError):
+            raise ValueError(f"cannot read it as a quantity: expected {expected}") from None
+        if q.unit == u.dimensionless_unscaled and unit != u.dimensionless_unscaled:
+            if not allow_plain:
+                raise ValueError(f"missing unit: expected {expected}")
+            q = q.value * unit
+    else:
+        raise ValueError(f"expected {expected}")
+    if not q.isscalar:
+        raise ValueError(f"expected a single value, {expected}")
+    try:
+        q = q.to(unit)
+    except u.UnitConversionError:
+        raise ValueError(f"wrong dimension ({q.unit.physical_type}): expected {expected}") from None
+    if not math.isfinite(float(q.value)):
+        raise ValueError(f"not finite: expected {expected}")
+    return q
+
+
+def parse_frequency(value: object) -> float:
+    """Parse a frequency given as a quantity ("10 mHz") or a plain number in Hz; returns Hz."""
+    return float(parse_quantity(value, u.Hz, allow_plain=True).value)

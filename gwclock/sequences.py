@@ -1,0 +1,298 @@
+"""Pulse-sequence kinds: how each is tuned, its filter function and its noise integrals.
+
+A kind turns a tuning frequency f0 and a wished-for interrogation time into an allowed
+sequence (``snap``), gives the modulus of its filter function, and passes stationary
+power-law noise through its aliasing sum. A new kind is one class and one entry in
+:data:`SEQUENCES`.
+
+References
+----------
+Cywinski et al. 2008, Phys. Rev. B 77, 174509 (filter functions of CPMG-type sequences).
+Dick, G. J. 1987, Proc. 19th PTTI, 133; Santarelli et al. 1998, IEEE Trans. UFFC 45, 887
+(aliasing of stationary noise into a cycled clock; from memory).
+Souza, Alvarez & Suter 2012, Phil. Trans. R. Soc. A 370, 4748 (robust phase-cycled sequences;
+from memory).
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+from scipy import integrate
+
+from . import filters
+
+__all__ = ["SEQUENCES", "get_sequence", "Periodic", "Ramsey", "Custom", "optimal_interrogation"]
+
+
+def optimal_interrogation(coherence, dead_time):
+    """T minimising ``(T + T_d) exp(2T/tau) / T^2``: the projection-limited optimum.
+
+    ``((tau - 2 T_d) + sqrt((tau - 2 T_d)^2 + 16 tau T_d)) / 4``; tau/2 without dead time.
+    """
+    tau = np.asarray(coherence, dtype=float)
+    b = tau - 2 * dead_time
+    return (b + np.sqrt(b**2 + 16 * tau * dead_time)) / 4
+
+
+def _power_integral(alpha, lo, hi):
+    """integral_lo^hi f^(alpha-2) df, hi may be inf for alpha < 1; zero when hi <= lo."""
+    lo = np.asarray(lo, dtype=float)
+    hi = np.asarray(hi, dtype=float)
+    ok = hi > lo
+    hi_s = np.where(ok, hi, 2 * lo)
+    if alpha == 1:
+        val = np.log(hi_s / lo)
+    else:
+        with np.errstate(over="ignore"):
+            top = np.where(np.isfinite(hi_s), hi_s ** (alpha - 1.0), 0.0)
+        val = (top - lo ** (alpha - 1.0)) / (alpha - 1.0)
+    return np.where(ok, val, 0.0)
+
+
+class Periodic:
+    """CPMG-timed sequences: n pi pulses at (k - 1/2) T/n, tuned to f0 = n / (2T).
+
+    Parameters
+    ----------
+    name : str
+    step : int
+        Pulse counts allowed are multiples of ``step`` (8 for XY-8).
+    fixed : int or None
+        A single allowed pulse count (1 for the spin echo).
+    error_order : int
+        Contrast loss per pulse is ``pulse_error ** error_order``: phase-cycled sequences
+        (XY-8) cancel pulse errors to first order, which the model takes as order 2.
+    """
+
+    dd = True
+
+    def __init__(self, name, step=1, fixed=None, error_order=1):
+        self.name, self.step, self.fixed, self.error_order = name, step, fixed, error_order
+
+    def min_pulses(self):
+        return self.fixed or self.step
+
+    def lowest_tuning(self, design):
+        return self.min_pulses() / (2 * design.max_interrogation)
+
+    def pulse_error(self, design):
+        return design.pulse_error**self.error_order
+
+    def snap(self, design, f0, T_wish):
+        """Allowed (n, T, valid) nearest to the wished interrogation at tuning f0."""
+        f0 = np.asarray(f0, dtype=float)
+        n_min = self.min_pulses()
+        if self.fixed:
+            n = np.full(np.broadcast(f0, T_wish).shape, float(self.fixed))
+            n_max = np.floor(2 * f0 * design.max_interrogation * (1 + 1e-12))
+        else:
+            n_max = np.floor(2 * f0 * design.max_interrogation * (1 + 1e-12) / self.step) * self.step
+            n = np.round(2 * f0 * T_wish / self.step) * self.step
+            n = np.clip(n, n_min, np.maximum(n_max, n_min))
+        valid = (n_max >= n) & (2 * f0 * design.pi_pulse_duration < 1)
+        return n, n / (2 * f0), valid
+
+    def fundamental(self, design, f0, n, T):
+        return (2 * T / np.pi) * filters.finite_pulse_factor(2 * f0 * design.pi_pulse_duration)
+
+    def modulus(self, design, f, n, T):
+        return filters.periodic_filter_modulus(f, T, n, design.pi_pulse_duration)
+
+    def noise_integral(self, design, term, f0, n, T):
+        return term.level * filters.periodic_noise_integral(term.alpha, T, f0, term.cutoff, term.low)
+
+    def aliased(self, design, terms, f0, n, T, Tc):
+        """sum_m S(|f0 + m/Tc|) |G|^2 in its smooth-noise form 2 Tc integral S |G|^2 df."""
+        out = 0.0
+        for term in terms:
+            out = out + self.noise_integral(design, term, f0, n, T)
+        return 2 * Tc * out
+
+    def common_mode(self, design, terms, f0, n, T):
+        out = 0.0
+        for term in terms:
+            out = out + self.noise_integral(design, term, f0, n, T)
+        return (2 * np.pi * design.nu0) ** 2 * out
+
+
+class Ramsey:
+    """Ramsey interrogation (no pi pulse): a low-pass detector, |G| = |sin(pi f T)| / (pi f).
+
+    Stationary noise is passed through the exact discrete aliasing sum over the cycle harmonics
+    m / Tc (|m| <= 32) plus its smooth tail.
+    """
+
+    dd = False
+    name = "ramsey"
+    harmonics = 32
+
+    @staticmethod
+    def pulse_error(design):
+        return 0.0
+
+    def lowest_tuning(self, design):
+        return 0.0
+
+    def snap(self, design, f0, T_wish):
+        f0 = np.asarray(f0, dtype=float)
+        T = np.minimum(T_wish, design.max_interrogation)
+        x = f0 * T
+        lobe = np.floor(x) + 0.5  # sit on a lobe maximum of |sin(pi f0 T)|
+        T_lobe = lobe / f0
+        T_lobe = np.where(T_lobe > design.max_interrogation, (lobe - 1) / f0, T_lobe)
+        T = np.where(x > 0.5, T_lobe, T)
+        return np.zeros_like(T), T, T > 2 * design.pi_pulse_duration
+
+    def fundamental(self, design, f0, n, T):
+        return filters.ramsey_filter_modulus(f0, T)
+
+    def modulus(self, design, f, n, T):
+        return filters.ramsey_filter_modulus(f, T)
+
+    def aliased(self, design, terms, f0, n, T, Tc):
+        floor = 1.0 / design.duration
+        m = np.arange(-self.harmonics, self.harmonics + 1)
+        f0e, Te, Tce = (np.asarray(v, dtype=float)[..., None] for v in (f0, T, Tc))
+        fm = f0e + m / Tce
+        fa = np.maximum(np.abs(fm), floor)
+        G2 = (Te * np.sinc(fm * Te)) ** 2
+        near = 0.0
+        for term in terms:
+            near = near + np.sum(term(fa) * G2, axis=-1)
+        f_edge = (self.harmonics + 0.5) / np.asarray(Tc, dtype=float)
+        tail = 0.0
+        for term in terms:
+            lo = np.maximum(f_edge, term.low)
+            tail = tail + term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
+        return near + 2 * np.asarray(Tc, dtype=float) * tail
+
+    def common_mode(self, design, terms, f0, n, T):
+        T = np.asarray(T, dtype=float)
+        out = 0.0
+        for term in terms:
+            if term.alpha == 0:
+                out = out + term.level * T / 2
+            elif term.alpha == -1:
+                x_lo = T / design.duration
+                out = out + term.level * T**2 * (np.log(1 / x_lo) + _ramsey_flicker_constant())
+            else:
+                raise ValueError("Ramsey common-mode integral handles white and flicker FM only")
+        return (2 * np.pi * design.nu0) ** 2 * out
+
+
+@lru_cache(maxsize=1)
+def _ramsey_flicker_constant():
+    """c0 with integral_x^inf sinc^2(u)/u du = ln(1/x) + c0 + O(x^2) for small x."""
+    a = integrate.quad(lambda u: (np.sinc(u) ** 2 - 1) / u, 0, 1, limit=200)[0]
+    # integral_1^inf sin^2(pi u) / (pi^2 u^3) du, with sin^2 = (1 - cos 2 pi u) / 2 (Fourier weight)
+    oscillating = integrate.quad(lambda u: u**-3.0, 1, np.inf, weight="cos", wvar=2 * np.pi)[0]
+    return a + (0.5 - oscillating) / (2 * np.pi**2)
+
+
+class _UnitSequence:
+    """Numerical moments of a custom timing for T = 1 and ideal pulses."""
+
+    def __init__(self, fractions):
+        self.fractions = np.asarray(fractions, dtype=float)
+        n = self.fractions.size
+        self.n = n
+        self.u_max = 40.0 * (n + 2)
+        u = np.concatenate((np.geomspace(1e-7, 0.05, 400, endpoint=False), np.arange(0.05, self.u_max, 0.002)))
+        g2 = np.abs(filters.filter_function(u, 1.0, self.fractions)) ** 2
+        self.u = u
+        peak_zone = u <= n + 2
+        self.peak = float(u[peak_zone][np.argmax(g2[peak_zone])])
+        self.cumulative = {a: integrate.cumulative_trapezoid(u**a * g2, u, initial=0.0)
+                           for a in (-4, -2, -1, 0, 1, 2)}
+        self.plateau = (4 * n + 2) / (4 * np.pi**2)
+
+    def moment(self, alpha, u_cut):
+        """integral_0^u_cut u^alpha |G_1(u)|^2 du (plateau beyond the tabulated range)."""
+        u_cut = np.asarray(u_cut, dtype=float)
+        inner = np.interp(np.minimum(u_cut, self.u_max), self.u, self.cumulative[alpha])
+        return inner + self.plateau * _power_integral(alpha, self.u_max, u_cut)
+
+
+@lru_cache(maxsize=64)
+def _unit_sequence(fractions):
+    return _UnitSequence(fractions)
+
+
+class Custom:
+    """User-given pi-pulse times (fractions of the interrogation), scaled to put the filter
+    maximum at the tuning frequency: T = x_peak / f0 with x_peak the peak of |G| for T = 1."""
+
+    dd = True
+    name = "custom"
+
+    @staticmethod
+    def pulse_error(design):
+        return design.pulse_error
+
+    def unit(self, design):
+        return _unit_sequence(tuple(design.pulse_times))
+
+    def lowest_tuning(self, design):
+        return self.unit(design).peak / design.max_interrogation
+
+    def snap(self, design, f0, T_wish):
+        unit = self.unit(design)
+        f0 = np.asarray(f0, dtype=float)
+        T = np.broadcast_to(unit.peak / f0, np.broadcast(f0, T_wish).shape)
+        fr = unit.fractions
+        gaps = np.diff(np.concatenate(([0.0], fr, [1.0])))
+        gaps[0] *= 2
+        gaps[-1] *= 2
+        fits = T * gaps.min() > design.pi_pulse_duration
+        return np.full(T.shape, float(unit.n)), T, (T <= design.max_interrogation) & fits
+
+    def _G(self, design, f, T):
+        tp = design.pi_pulse_duration
+        fr = self.unit(design).fractions
+        f = np.asarray(f, dtype=float)
+        T = np.asarray(T, dtype=float)
+        half = tp / 2
+        edges = [np.zeros_like(T)]
+        for x in fr:
+            edges += [x * T - half, x * T + half]
+        edges.append(T)
+        G = 0.0
+        for k in range(fr.size + 1):
+            G = G + filters._constant_piece(f, edges[2 * k], edges[2 * k + 1], (-1.0) ** k)
+        for k, x in enumerate(fr):
+            G = G + filters._pulse_piece(f, x * T, tp, (-1.0) ** k)
+        return G
+
+    def fundamental(self, design, f0, n, T):
+        return np.abs(self._G(design, f0, T))
+
+    def modulus(self, design, f, n, T):
+        return np.abs(self._G(design, f, T))
+
+    def noise_integral(self, design, term, f0, n, T):
+        T = np.asarray(T, dtype=float)
+        unit = self.unit(design)
+        inner = unit.moment(term.alpha, term.cutoff * T) - (unit.moment(term.alpha, term.low * T) if term.low > 0 else 0.0)
+        return term.level * T ** (1.0 - term.alpha) * inner
+
+    aliased = Periodic.aliased
+    common_mode = Periodic.common_mode
+
+
+SEQUENCES = {
+    "ramsey": Ramsey(),
+    "echo": Periodic("echo", fixed=1),
+    "cpmg": Periodic("cpmg"),
+    "xy8": Periodic("xy8", step=8, error_order=2),
+    "custom": Custom(),
+}
+
+
+def get_sequence(kind: str):
+    """The sequence kind registered as ``kind``; unknown kinds list the valid ones."""
+    try:
+        return SEQUENCES[kind]
+    except KeyError:
+        raise KeyError(f"unknown sequence kind {kind!r}; expected one of {', '.join(SEQUENCES)}") from None
