@@ -24,15 +24,13 @@ from . import noises, projection, response
 from .mission import Design
 from .sequences import SEQUENCES, Ramsey, optimal_interrogation
 
-__all__ = ["Budget", "envelope", "window", "evaluate", "frequency_grid", "signal_response", "CHUNK"]
+__all__ = ["Budget", "envelope", "window", "evaluate", "optimise", "frequency_grid", "signal_response", "CHUNK"]
 
 #: Frequencies evaluated at once (bounds memory on large grids).
 CHUNK = 4096
 _COARSE = 14
 _REFINE = 6
 _RAMSEY = SEQUENCES["ramsey"]
-#: Ramsey is tried below this many inverse coherence times as well as wherever DD cannot reach.
-_RAMSEY_REGION = 4.0
 
 
 @dataclass(frozen=True)
@@ -144,6 +142,26 @@ def _pick(parts, index):
     return {k: np.take_along_axis(np.asarray(v), index[..., None], axis=-1)[..., 0] for k, v in parts.items()}
 
 
+def optimise(design: Design, f0, kind: str | None = None):
+    """Best sequence of one kind at each tuning f0 (no Ramsey fallback).
+
+    Parameters
+    ----------
+    design : Design
+    f0 : array_like
+        Tuning frequencies in Hz (1-D).
+    kind : str, optional
+        Sequence kind (default: the mission's).
+
+    Returns
+    -------
+    (dict, ndarray of bool)
+        Per-f0 arrays as from :func:`evaluate` for the chosen sequence, and whether any
+        sequence of that kind reaches f0.
+    """
+    return _best(design, SEQUENCES[kind or design.kind], np.atleast_1d(np.asarray(f0, dtype=float)))
+
+
 def _best(design, kind, f0):
     """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity."""
     f0 = f0[:, None]
@@ -203,12 +221,13 @@ def _assemble(design, f, tuning, parts, mode, scale=None):
 
 def _best_with_fallback(design, f0):
     """Best sequence at each f0: the mission's kind, or Ramsey where no DD sequence fits or
-    where Ramsey does better (at low frequency, below a few inverse coherence times)."""
+    where Ramsey does better (at low frequency, and where pulse leakage of white phase noise
+    outweighs the longer DD interrogation)."""
     kind = SEQUENCES[design.kind]
     best, ok = _best(design, kind, f0)
     if isinstance(kind, Ramsey):
         return best, ok
-    look = ~ok | (f0 < _RAMSEY_REGION / design.coherence_time)
+    look = np.ones(f0.shape, dtype=bool)
     if np.any(look):
         rb, rok = _best(design, _RAMSEY, f0[look])
         mine = {k: np.asarray(v)[look] for k, v in best.items()}

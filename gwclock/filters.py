@@ -202,7 +202,10 @@ def odd_harmonic_sum(s, count=np.inf, first=0):
     (s = 0).
     """
     first = np.asarray(first, dtype=float)
-    count = np.maximum(np.asarray(count, dtype=float), first)
+    count = np.asarray(count, dtype=float)
+    if s > 1 and not np.any(first) and not np.any(np.isfinite(count)):
+        return np.full(np.broadcast(first, count).shape, (1 - 2.0 ** (-s)) * special.zeta(s))
+    count = np.maximum(count, first)
     hi = _partial_odd(s, count)
     lo = _partial_odd(s, first)
     return np.where(count > first, hi - np.where(first > 0, lo, 0.0), 0.0)

@@ -120,13 +120,14 @@ class Periodic:
 class Ramsey:
     """Ramsey interrogation (no pi pulse): a low-pass detector, |G| = |sin(pi f T)| / (pi f).
 
-    Stationary noise is passed through the exact discrete aliasing sum over the cycle harmonics
-    m / Tc (|m| <= 32) plus its smooth tail.
+    Stationary noise that rises towards low frequency is passed through the exact discrete
+    aliasing sum over the cycle harmonics m / Tc (|m| <= 16) plus its smooth tail; white and
+    rising noise use the smooth (plateau) form.
     """
 
     dd = False
     name = "ramsey"
-    harmonics = 32
+    harmonics = 16
 
     @staticmethod
     def pulse_error(design):
@@ -152,21 +153,33 @@ class Ramsey:
         return filters.ramsey_filter_modulus(f, T)
 
     def aliased(self, design, terms, f0, n, T, Tc):
+        T = np.asarray(T, dtype=float)
+        Tc = np.asarray(Tc, dtype=float)
+        out = 0.0
+        smooth = [t for t in terms if t.alpha >= 0]
+        for term in smooth:
+            # white FM: exact for Tc = T (sum_m sinc^2(x + m) = 1); rising terms: plateau of |G|^2
+            if term.alpha == 0 and term.low == 0:
+                out = out + term.level * Tc * T
+            else:
+                lo = np.maximum(term.low, 1.0 / T)  # the plateau starts above the main lobe
+                out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
+        red = [t for t in terms if t.alpha < 0]
+        if not red:
+            return out + np.zeros(np.broadcast(f0, T).shape)
         floor = 1.0 / design.duration
         m = np.arange(-self.harmonics, self.harmonics + 1)
         f0e, Te, Tce = (np.asarray(v, dtype=float)[..., None] for v in (f0, T, Tc))
         fm = f0e + m / Tce
         fa = np.maximum(np.abs(fm), floor)
         G2 = (Te * np.sinc(fm * Te)) ** 2
-        near = 0.0
-        for term in terms:
-            near = near + np.sum(term(fa) * G2, axis=-1)
-        f_edge = (self.harmonics + 0.5) / np.asarray(Tc, dtype=float)
-        tail = 0.0
-        for term in terms:
+        for term in red:
+            out = out + np.sum(term(fa) * G2, axis=-1)
+        f_edge = (self.harmonics + 0.5) / Tc
+        for term in red:
             lo = np.maximum(f_edge, term.low)
-            tail = tail + term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
-        return near + 2 * np.asarray(Tc, dtype=float) * tail
+            out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
+        return out
 
     def common_mode(self, design, terms, f0, n, T):
         T = np.asarray(T, dtype=float)

@@ -1,0 +1,32 @@
+"""Shared helpers: a simple design for physics checks, and the shipped missions."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from gwclock.mission import load_mission
+
+ROOT = Path(__file__).resolve().parents[1]
+MISSIONS = sorted((ROOT / "mission_configs").glob("*.toml"))
+NU_SR = 429_228_004_229_873.7  # Hz, 87Sr, CIPM 2009 Recommendation 2
+
+
+def quiet_design(**changes):
+    """The default design with every noise but projection switched off (unless changed)."""
+    mission, _ = load_mission(None)
+    base = dict(
+        transmit_power=1e6, linewidth=0.0, flicker_floor=0.0, gain_mismatch=0.0,
+        acceleration_noise=0.0, timing_mismatch=0.0, comparison="linear", dead_time=0.0,
+        pulse_error=0.0, pi_pulse_duration=1e-6, phase_lock_bandwidth=1e9,
+        coherence_time=np.inf, squeezing=1.0,
+    )
+    base.update(changes)
+    return mission.design().replace(**base)
+
+
+@pytest.fixture
+def design():
+    return quiet_design()
