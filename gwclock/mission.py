@@ -309,8 +309,11 @@ def _fields_at(loc) -> list[str]:
 
 
 def _error_from_validation(exc: ValidationError, source: str) -> InputError:
-    err = exc.errors(include_url=False)[0]
-    loc = tuple(p for p in err["loc"] if not isinstance(p, int) or True)
+    errors = exc.errors(include_url=False)
+    # a misspelt key also shows as a missing field: report the misspelling first
+    errors.sort(key=lambda e: e["type"] != "extra_forbidden")
+    err = errors[0]
+    loc = tuple(err["loc"])
     # drop pydantic's union branch tags such as 'literal['auto']' or 'function-before[...]'
     loc = tuple(p for p in loc if not (isinstance(p, str) and ("[" in p or p.startswith("function-"))))
     field = _dotted(loc) or None
@@ -325,6 +328,8 @@ def _error_from_validation(exc: ValidationError, source: str) -> InputError:
     msg = err["msg"]
     if msg.startswith("Value error, "):
         msg = msg[len("Value error, "):]
+    if msg.startswith("Input should be "):
+        msg = "expected " + msg[len("Input should be "):]
     if isinstance(value, dict):
         value = None
     return InputError(msg, source=source, field=field, value=value)
