@@ -22,24 +22,31 @@ CONVENTION = ("sky- and polarisation-averaged equivalent strain, one-sided "
               "(normalisation of Robson, Cornish & Liu 2019, CQG 36, 105011): SNR^2 = h0^2 T / S_n")
 
 
+def Column(data, unit=None):
+    from astropy.table import Column as _Column
+    return _Column(data, unit=unit)
+
+
 def budget_table(budget, mission_name: str, digest: str):
-    """The noise budget as a :class:`astropy.table.QTable` with units and provenance."""
-    import astropy.units as u
-    from astropy.table import QTable
+    """The noise budget as an :class:`astropy.table.Table` with units and provenance.
+
+    Read it back with ``QTable.read(path)`` to get Quantity columns.
+    """
+    from astropy.table import Table
 
     from .noises import NOISES
 
-    t = QTable()
-    t["frequency"] = budget.frequency * u.Hz
-    t["asd"] = budget.asd * u.Hz**-0.5
+    t = Table()
+    t["frequency"] = Column(budget.frequency, unit="Hz")
+    t["asd"] = Column(budget.asd, unit="Hz(-1/2)")
     for name in NOISES:
-        t[f"asd_{name}"] = budget.asd_of(name) * u.Hz**-0.5
-    t["hn"] = budget.characteristic_noise * u.dimensionless_unscaled
-    t["tuning"] = budget.tuning * u.Hz
-    t["interrogation"] = budget.interrogation * u.s
-    t["pulses"] = budget.pulses
-    t["contrast"] = budget.contrast
-    t["correlated"] = budget.correlated
+        t[f"asd_{name}"] = Column(budget.asd_of(name), unit="Hz(-1/2)")
+    t["hn"] = Column(budget.characteristic_noise)
+    t["tuning"] = Column(budget.tuning, unit="Hz")
+    t["interrogation"] = Column(budget.interrogation, unit="s")
+    t["pulses"] = Column(budget.pulses)
+    t["contrast"] = Column(budget.contrast)
+    t["correlated"] = Column(budget.correlated)
     descriptions = {
         "frequency": "GW frequency",
         "asd": "total equivalent strain amplitude spectral density",
@@ -120,7 +127,7 @@ def write_table(table, path) -> Path:
     out = table
     if fmt == "ascii.csv":
         from astropy.table import Table
-        out = Table(table)
+        out = Table(table, copy=True)
         comments = [f"{k}: {v}" for k, v in table.meta.items()]
         comments += [f"column {c}: unit {out[c].unit or '1'}" for c in out.colnames]
         for c in out.colnames:
@@ -128,9 +135,11 @@ def write_table(table, path) -> Path:
                 out[c].info.format = ".10g"
         out.meta = {"comments": comments}
     else:
+        out = table.copy(copy_data=False)
         for c in out.colnames:
-            if getattr(out[c], "dtype", np.dtype(int)).kind == "f":
+            if out[c].dtype.kind == "f":
                 out[c].info.format = ".10g"
+    kwargs = {"comment": "# "} if fmt == "ascii.csv" else {}
     with atomic_path(p) as tmp:
-        out.write(tmp, format=fmt, overwrite=True)
+        out.write(tmp, format=fmt, overwrite=True, **kwargs)
     return p

@@ -1,0 +1,123 @@
+"""The command line, run for real: outputs, provenance, one-line errors, safe files.
+
+Truth: the README's command reference (column names, units, exit codes) and the physics checks
+elsewhere; here the numbers must be finite and carry the right units.
+"""
+
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+from astropy.table import QTable, Table
+
+from gwclock.cli import main
+
+from .conftest import MISSIONS
+
+
+def run(argv, capsys):
+    code = main([str(a) for a in argv])
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+@pytest.mark.parametrize("path", MISSIONS, ids=lambda p: p.stem)
+def test_curve_for_every_shipped_mission(tmp_path, capsys, path):
+    table, plot = tmp_path / "t.ecsv", tmp_path / "f.png"
+    code, out, _ = run(["curve", path, "--table", table, "--plot", plot, "--points", 120], capsys)
+    assert code == 0
+    t = QTable.read(table)
+    assert t["frequency"].unit == "Hz" and t["asd"].unit == "Hz(-1/2)"
+    assert t["frequency"][0].value == pytest.approx(1e-5) and t["frequency"][-1].value == pytest.approx(100)
+    for col in ("asd", "asd_projection", "asd_shot", "asd_laser", "asd_acceleration"):
+        assert np.all(np.isfinite(t[col].value)) and np.all(t[col].value >= 0)
+    total = t["asd_projection"] ** 2 + t["asd_shot"] ** 2 + t["asd_laser"] ** 2 + t["asd_acceleration"] ** 2
+    assert np.allclose(total.value, (t["asd"] ** 2).value, rtol=1e-9)
+    assert t.meta["curve"] == "envelope" and "no single tuning" in t.meta["note"]
+    assert t.meta["mission_sha256"] and t.meta["tool"] == "gwclock"
+    assert plot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert "best strain ASD" in out
+
+
+def test_default_mission_csv_and_svg(tmp_path, capsys):
+    code, _, _ = run(["curve", "--table", tmp_path / "t.csv", "--plot", tmp_path / "f.svg", "--points", 20,
+                      "--fmin", "1 mHz", "--fmax", "1 Hz"], capsys)
+    assert code == 0
+    t = Table.read(tmp_path / "t.csv", format="ascii.csv", comment="#")
+    assert len(t) == 20 and t["frequency"][0] == pytest.approx(1e-3)
+    assert (tmp_path / "f.svg").read_text().lstrip().startswith("<?xml")
+
+
+def test_window_command(tmp_path, capsys):
+    code, out, _ = run(["window", "--tune", "100 mHz", "--table", tmp_path / "w.ecsv", "--points", 50], capsys)
+    assert code == 0
+    t = QTable.read(tmp_path / "w.ecsv")
+    assert t.meta["curve"] == "window"
+    assert np.allclose(t["tuning"].value, 0.1)
+    i = np.argmin(t["asd"].value)
+    assert 0.05 < t["frequency"][i].value < 0.2
+
+
+def test_check_prints_units(capsys):
+    code, out, _ = run(["check"], capsys)
+    assert code == 0
+    assert "baseline = 3e+10 m" in out and "coherence_time = 100 s" in out
+
+
+def test_species_and_cite_and_version(capsys):
+    assert run(["species"], capsys)[0] == 0
+    code, out, _ = run(["--cite"], capsys)
+    assert code == 0 and "Robson, Cornish & Liu 2019" in out
+    with pytest.raises(SystemExit) as e:
+        main(["--version"])
+    assert e.value.code == 0
+
+
+@pytest.mark.parametrize("argv, fragment", [
+    (["curve", "nope.toml"], "mission file not found"),
+    (["curve", "--fmin", "10", "--fmax", "1"], "must be below --fmax"),
+    (["curve", "--fmin", "3 kg"], "--fmin: got '3 kg'; wrong dimension"),
+    (["curve", "--fmin", "-1 Hz"], "expected a positive frequency"),
+    (["curve", "--points", "1"], "--points"),
+    (["curve", "--points", "many"], "invalid int value"),
+    (["curve", "--table", "no/such/dir/t.ecsv"], "the output folder does not exist"),
+    (["curve", "--table", "t.txt"], "unsupported file type '.txt'"),
+    (["curve", "--plot", "f.jpg"], "unsupported file type '.jpg'"),
+    (["window"], "required: --tune"),
+    (["window", "--tune", "200 Hz"], "outside the band"),
+    (["bogus"], "invalid choice"),
+])
+def test_bad_command_lines(tmp_path, monkeypatch, capsys, argv, fragment):
+    monkeypatch.chdir(tmp_path)
+    code, out, err = run(argv, capsys)
+    assert code == 2
+    assert fragment in err
+    assert err.count("\n") == 1 and "Traceback" not in err
+    assert list(tmp_path.iterdir()) == []  # no output file created
+
+
+def test_failure_keeps_an_existing_output(tmp_path, capsys):
+    table = tmp_path / "t.ecsv"
+    table.write_text("precious")
+    bad = tmp_path / "bad.toml"
+    bad.write_text('name = "x"\n[link]\nbaseline = "5 kg"\n')
+    code, _, _ = run(["curve", bad, "--table", table], capsys)
+    assert code == 2
+    assert table.read_text() == "precious"
+
+
+def test_console_script_runs_as_a_process(tmp_path):
+    out = subprocess.run([sys.executable, "-m", "gwclock", "curve", "--points", "10", "--table", str(tmp_path / "t.ecsv")],
+                         capture_output=True, text=True, timeout=120)
+    assert out.returncode == 0, out.stderr
+    bad = subprocess.run([sys.executable, "-m", "gwclock", "curve", "missing.toml"], capture_output=True, text=True,
+                         timeout=120, cwd=tmp_path)
+    assert bad.returncode == 2 and bad.stderr.startswith("gwclock: error: missing.toml")
+
+
+def test_tables_are_deterministic_apart_from_the_timestamp(tmp_path, capsys):
+    for name in ("a.ecsv", "b.ecsv"):
+        assert run(["curve", "--points", 40, "--table", tmp_path / name], capsys)[0] == 0
+    strip = lambda p: [l for l in p.read_text().splitlines() if "created" not in l]  # noqa: E731
+    assert strip(tmp_path / "a.ecsv") == strip(tmp_path / "b.ecsv")

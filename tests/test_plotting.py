@@ -1,0 +1,31 @@
+"""Figures checked through their artists (scales, labels with units, curves, legend)."""
+
+import numpy as np
+from matplotlib.figure import Figure
+
+from gwclock.engine import envelope, window
+from gwclock.mission import load_mission
+from gwclock.plotting import plot_budget
+
+
+def test_budget_plot_artists():
+    m, _ = load_mission(None)
+    b = envelope(m.design(), np.geomspace(1e-4, 10, 60))
+    fig = Figure()
+    ax = fig.add_subplot()
+    artists = plot_budget(b, ax=ax, title=m.name)
+    assert set(artists) == {"total", "projection", "shot", "laser", "acceleration"}
+    assert ax.get_xscale() == "log" and ax.get_yscale() == "log"
+    assert "[Hz]" in ax.get_xlabel() and "Hz" in ax.get_ylabel()
+    assert m.name in ax.get_title()
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert len(labels) == 5 and any("envelope" in s for s in labels)
+    assert artists["total"].get_linewidth() > artists["shot"].get_linewidth()
+
+
+def test_window_plot_label_names_the_tuning():
+    m, _ = load_mission(None)
+    w = window(m.design(), np.geomspace(1e-3, 1, 40), tune=0.1)
+    artists = plot_budget(w, components=False)
+    assert set(artists) == {"total"}
+    assert "0.1 Hz" in artists["total"].get_label()
