@@ -72,7 +72,7 @@ def plot_budget(budget, ax=None, title=None, components=True):
     ax.grid(True, which="minor", alpha=0.12)
     if title:
         ax.set_title(title)
-    ax.legend(loc="upper right", fontsize="small", frameon=False)
+    ax.legend(loc="best", fontsize="small", framealpha=0.85)
     if budget.mode == "envelope":
         ax.text(0.01, 0.01, "envelope: each frequency at its own best tuning", transform=ax.transAxes,
                 fontsize="x-small", color="0.3", va="bottom")
