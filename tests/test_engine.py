@@ -237,3 +237,25 @@ class TestEnvelope:
         for bad in ([1.0, 1.0, 2.0], [2.0, 1.0], [-1.0, 1.0], [0.0, 1.0], [np.nan, 1.0]):
             with pytest.raises(ValueError):
                 envelope(d, np.array(bad))
+
+
+class TestCustomSequence:
+    def test_custom_cpmg_timing_reproduces_cpmg(self):
+        # a custom sequence with CPMG-4 timing must behave as CPMG-4: same peak (f0 = n/(2T)) and,
+        # from its numerically integrated noise moments, the closed-form noise integrals
+        d_c = quiet_design(kind="custom", pulse_times=(0.125, 0.375, 0.625, 0.875), acceleration_noise=3e-15,
+                           linewidth=1.0, gain_mismatch=1e-2, dead_time=1.0)
+        d_p = d_c.replace(kind="cpmg", pulse_times=())
+        f0 = 0.04
+        kind = SEQUENCES["custom"]
+        n, T, ok = kind.snap(d_c, np.array([f0]), np.array([1.0]))
+        # custom sequences are tuned to the true maximum of |G|, slightly above n/(2T) for few
+        # pulses (as for the echo, whose maximum is at 1.48 f0)
+        assert ok[0] and n[0] == 4
+        assert 1.0 < T[0] / (4 / (2 * f0)) < 1.06
+        T = 4 / (2 * f0)
+        a = evaluate(d_c, kind, f0, 4, T)
+        b = evaluate(d_p, CPMG, f0, 4, T)
+        assert a["projection"] == pytest.approx(b["projection"], rel=1e-6)
+        assert a["acceleration"] == pytest.approx(b["acceleration"], rel=1e-3)
+        assert a["laser"] == pytest.approx(b["laser"], rel=1e-2)
