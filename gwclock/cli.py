@@ -26,6 +26,13 @@ REFERENCES = [
     "Barnes et al. 1971, IEEE Trans. Instrum. Meas. 20, 105 (power-law frequency noise)",
     "Armano et al. 2016, Phys. Rev. Lett. 116, 231101 (drag-free acceleration noise)",
     "CIPM 2009 Recommendation 2 (Sr and Yb clock frequencies)",
+    "Peters 1964, Phys. Rev. 136, B1224 (inspiral at quadrupole order)",
+    "Moore, Cole & Berry 2015, Class. Quantum Grav. 32, 015014 (characteristic strain)",
+    "Thrane & Romano 2013, Phys. Rev. D 88, 124032 (stochastic backgrounds, power-law integrated curves)",
+    "Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2 (Advanced LIGO fit)",
+    "Mishra, Arun, Iyer & Sathyaprakash 2010, Phys. Rev. D 82, 064010 (ET-B fit)",
+    "Yagi & Seto 2011, Phys. Rev. D 83, 044011 (DECIGO)",
+    "Planck Collaboration 2020, A&A 641, A6 (cosmology, via astropy Planck18)",
     "Muniz et al. 2021, Phys. Rev. Research 3, 023152 (Sr 3P0 lifetime)",
 ]
 
@@ -212,6 +219,8 @@ def build_parser():
     sp.set_defaults(func=cmd_window)
     sp = sub.add_parser("species", help="list the clock species presets with their sources")
     sp.set_defaults(func=cmd_species)
+    from .cli_science import add_commands
+    add_commands(sub, mission_arg, grid_args)
     return p
 
 

@@ -24,7 +24,7 @@ from . import noises, projection, response
 from .mission import Design
 from .sequences import SEQUENCES, Ramsey, optimal_interrogation
 
-__all__ = ["Budget", "envelope", "window", "evaluate", "optimise", "frequency_grid", "signal_response", "CHUNK"]
+__all__ = ["Budget", "envelope", "window", "window_psd", "evaluate", "optimise", "frequency_grid", "signal_response", "CHUNK"]
 
 #: Frequencies evaluated at once (bounds memory on large grids).
 CHUNK = 4096
@@ -239,6 +239,45 @@ def _best_with_fallback(design, f0):
         ok = ok.copy()
         ok[idx] = True
     return best, ok
+
+
+def window_psd(design: Design, tunings, frequency):
+    """Total strain PSD of many fixed tunings at once: ``S_n(f; f_k)``.
+
+    Parameters
+    ----------
+    design : Design
+    tunings : array_like, shape (K,)
+        Tuning frequencies in Hz (each gets the envelope's best sequence, Ramsey fallback
+        included).
+    frequency : array_like, shape (K, P) or (P,)
+        GW frequencies in Hz at which to evaluate each tuning's window.
+
+    Returns
+    -------
+    (ndarray, dict)
+        ``S_n`` of shape (K, P) in 1/Hz, and the per-tuning sequence (``pulses``,
+        ``interrogation``, ...).
+    """
+    fk = np.atleast_1d(np.asarray(tunings, dtype=float))
+    f = np.asarray(frequency, dtype=float)
+    f = np.broadcast_to(f, (fk.size, f.shape[-1]))
+    best, ok = _best_with_fallback(design, fk)
+    if not np.all(ok):
+        raise ValueError("some tunings cannot be reached by any sequence")
+    sy = _total(best)
+    n = np.asarray(best["pulses"], dtype=float)[:, None]
+    T = np.asarray(best["interrogation"], dtype=float)[:, None]
+    kind = SEQUENCES[design.kind]
+    ramsey = n[:, 0] == 0
+    G0 = np.empty(fk.size)
+    Gf = np.empty(f.shape)
+    for mask, k in ((ramsey, _RAMSEY), (~ramsey, kind)):
+        if np.any(mask):
+            G0[mask] = k.modulus(design, fk[mask][:, None], n[mask], T[mask])[:, 0]
+            Gf[mask] = k.modulus(design, f[mask], n[mask], T[mask])
+    scale = G0[:, None] ** 2 / np.maximum(Gf**2, 1e-24 * G0[:, None] ** 2)
+    return sy[:, None] * scale / signal_response(design, f), best
 
 
 def envelope(design: Design, frequency) -> Budget:

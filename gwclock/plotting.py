@@ -11,7 +11,7 @@ import numpy as np
 
 from .tables import atomic_path, check_output_path
 
-__all__ = ["plot_budget", "save_figure", "FIGURE_FORMATS", "NOISE_STYLE"]
+__all__ = ["plot_budget", "plot_lines", "save_figure", "FIGURE_FORMATS", "NOISE_STYLE", "SERIES_STYLES"]
 
 FIGURE_FORMATS = (".png", ".pdf", ".svg")
 
@@ -76,6 +76,57 @@ def plot_budget(budget, ax=None, title=None, components=True):
     if budget.mode == "envelope":
         ax.text(0.01, 0.01, "envelope: each frequency at its own best tuning", transform=ax.transAxes,
                 fontsize="x-small", color="0.3", va="bottom")
+    return artists
+
+
+# Okabe & Ito hues with dash patterns, cycled for overlays of several curves.
+SERIES_STYLES = [
+    dict(color="black", linestyle="-", lw=2.2),
+    dict(color="#0072B2", linestyle=(0, (6, 2)), lw=1.6),
+    dict(color="#D55E00", linestyle=(0, (2, 1.5)), lw=1.6),
+    dict(color="#009E73", linestyle=(0, (6, 2, 1, 2)), lw=1.6),
+    dict(color="#CC79A7", linestyle=(0, (1, 1)), lw=1.8),
+    dict(color="#E69F00", linestyle=(0, (8, 2, 1, 2, 1, 2)), lw=1.6),
+    dict(color="#56B4E9", linestyle=(0, (4, 1)), lw=1.6),
+]
+
+
+def plot_lines(series, ax=None, xlabel="frequency [Hz]", ylabel="", title=None, logy=True, marks=None):
+    """Overlay labelled curves on log axes.
+
+    Parameters
+    ----------
+    series : list of (label, x, y)
+    marks : list of (label, x, y), optional
+        Points to mark and annotate (e.g. times before merger on a track).
+
+    Returns
+    -------
+    dict
+        ``{label: Line2D}``, plus ``"marks"`` for the marked points.
+    """
+    fig, ax = _new_axes(ax)
+    artists = {}
+    for i, (label, x, y) in enumerate(series):
+        style = SERIES_STYLES[i % len(SERIES_STYLES)]
+        y = np.asarray(y, dtype=float)
+        (artists[label],) = ax.plot(x, np.where(y > 0, y, np.nan), label=label, **style)
+    if marks:
+        xs = [m[1] for m in marks]
+        ys = [m[2] for m in marks]
+        artists["marks"] = ax.scatter(xs, ys, s=18, color="black", zorder=5)
+        for label, x, y in marks:
+            ax.annotate(label, (x, y), textcoords="offset points", xytext=(4, 5), fontsize="x-small")
+    ax.set_xscale("log")
+    if logy:
+        ax.set_yscale("log")
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel(ylabel)
+    ax.grid(True, which="major", alpha=0.35)
+    ax.grid(True, which="minor", alpha=0.12)
+    if title:
+        ax.set_title(title)
+    ax.legend(loc="best", fontsize="small", framealpha=0.85)
     return artists
 
 

@@ -1,0 +1,210 @@
+"""Broadband reference detectors from published analytic models, and user-supplied curves.
+
+Each reference carries its source and the averaging convention it was published in. gwclock
+compares everything in the sky-averaged convention of Robson, Cornish & Liu (2019): a curve
+published for an optimally oriented detector (a non-sky-averaged strain PSD P_n) is divided by
+the detector's sky-averaged response R, i.e. multiplied by 5/2 for a 90-degree interferometer
+and by 10/3 for 60-degree arms (PHYSICS.md sec. 8, derivation). The factor is an explicit,
+cited parameter of each curve.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Callable
+
+import numpy as np
+
+__all__ = ["Reference", "REFERENCES", "get_reference", "lisa_psd", "lisa_confusion", "CONFUSION_PARAMETERS",
+           "user_curve"]
+
+SKY = "sky-averaged"
+OPTIMAL = "optimal orientation"
+
+# Robson, Cornish & Liu 2019, Table 1 (from memory; PHYSICS.md sec. 8): T_obs in yr ->
+# (alpha, beta, kappa, gamma, f_k [Hz]); amplitude A = 9e-45.
+CONFUSION_PARAMETERS = {
+    0.5: (0.133, 243.0, 482.0, 917.0, 0.00258),
+    1.0: (0.171, 292.0, 1020.0, 1680.0, 0.00215),
+    2.0: (0.165, 299.0, 611.0, 1340.0, 0.00173),
+    4.0: (0.138, -221.0, 521.0, 1680.0, 0.00113),
+}
+
+
+def lisa_confusion(f, years):
+    """Galactic-confusion foreground of Robson, Cornish & Liu 2019 (eq. 14), 1/Hz."""
+    try:
+        al, be, ka, ga, fk = CONFUSION_PARAMETERS[float(years)]
+    except KeyError:
+        raise ValueError(f"the galactic confusion is tabulated for {', '.join(map(str, CONFUSION_PARAMETERS))} yr") from None
+    f = np.asarray(f, dtype=float)
+    with np.errstate(over="ignore", under="ignore"):
+        expo = np.minimum(-f**al + be * f * np.sin(ka * f), 700.0)
+        return 9e-45 * f ** (-7 / 3) * np.exp(expo) * (1 + np.tanh(ga * (fk - f)))
+
+
+def lisa_psd(f, confusion_years=None):
+    """LISA sky-averaged sensitivity S_n of Robson, Cornish & Liu 2019 (eqs. 10-13), 1/Hz.
+
+    ``S_n = 10/(3 L^2) (P_OMS + 4 P_acc / (2 pi f)^4) (1 + 0.6 (f/f*)^2) [+ S_c]`` with
+    L = 2.5e9 m and f* = 19.09 mHz.
+    """
+    f = np.asarray(f, dtype=float)
+    L, fstar = 2.5e9, 19.09e-3
+    p_oms = (1.5e-11) ** 2 * (1 + (2e-3 / f) ** 4)
+    p_acc = (3e-15) ** 2 * (1 + (0.4e-3 / f) ** 2) * (1 + (f / 8e-3) ** 4)
+    s = 10 / (3 * L**2) * (p_oms + 4 * p_acc / (2 * np.pi * f) ** 4) * (1 + 0.6 * (f / fstar) ** 2)
+    if confusion_years:
+        s = s + lisa_confusion(f, confusion_years)
+    return s
+
+
+def aligo_psd(f):
+    """Advanced LIGO design analytic fit (Sathyaprakash & Schutz 2009, LRR 12, 2; from memory):
+    S0 = 1e-49 /Hz, f0 = 215 Hz, x = f/f0."""
+    x = np.asarray(f, dtype=float) / 215.0
+    return 1e-49 * (x ** (-4.14) - 5 * x ** (-2) + 111 * (1 - x**2 + x**4 / 2) / (1 + x**2 / 2))
+
+
+def et_psd(f):
+    """Einstein Telescope ET-B analytic fit (Mishra, Arun, Iyer & Sathyaprakash 2010,
+    PRD 82, 064010; coefficients from memory): x = f / 100 Hz, S0 = 1e-50 /Hz."""
+    x = np.asarray(f, dtype=float) / 100.0
+    return 1e-50 * (2.39e-27 * x ** (-15.64) + 0.349 * x ** (-2.145) + 1.76 * x ** (-0.12) + 0.409 * x**1.10) ** 2
+
+
+def decigo_psd(f):
+    """DECIGO (Yagi & Seto 2011, PRD 83, 044011, eq. 5; formula from memory), f_p = 7.36 Hz."""
+    f = np.asarray(f, dtype=float)
+    fp = 7.36
+    return (7.05e-48 * (1 + (f / fp) ** 2) + 4.8e-51 * f ** (-4) / (1 + (f / fp) ** 2) + 5.33e-52 * f ** (-4))
+
+
+@dataclass(frozen=True)
+class Reference:
+    """A broadband detector curve.
+
+    Attributes
+    ----------
+    key, label : str
+    psd : callable
+        Native PSD in 1/Hz as published, ``psd(f, **options)``.
+    convention : str
+        ``"sky-averaged"`` or ``"optimal orientation"``.
+    sky_factor : float
+        Multiplies the native PSD to give the sky-averaged S_n (1 when already sky-averaged).
+    band : (float, float)
+        Frequencies (Hz) where the published model is meant to hold.
+    source : str
+    note : str
+    """
+
+    key: str
+    label: str
+    psd: Callable
+    convention: str
+    sky_factor: float
+    band: tuple
+    source: str
+    note: str = ""
+    options: dict = field(default_factory=dict)
+
+    def native(self, f, **options):
+        """PSD in its published convention (1/Hz)."""
+        return self.psd(np.asarray(f, dtype=float), **options)
+
+    def sky_averaged(self, f, **options):
+        """Sky-averaged S_n (1/Hz), the convention of every gwclock comparison."""
+        return self.sky_factor * self.native(f, **options)
+
+
+REFERENCES = {
+    "lisa": Reference(
+        "lisa", "LISA", lisa_psd, SKY, 1.0, (1e-5, 1.0),
+        "Robson, Cornish & Liu 2019, Class. Quantum Grav. 36, 105011, eqs. 10-14 (L = 2.5 Gm, f* = 19.09 mHz)",
+        "galactic confusion for 0.5, 1, 2 or 4 yr on request (--confusion)"),
+    "aligo": Reference(
+        "aligo", "Advanced LIGO (design fit)", aligo_psd, OPTIMAL, 5 / 2, (10.0, 1e4),
+        "Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2 (analytic fit, from memory)",
+        "90-degree arms: sky average x 5/2; fit valid above about 10 Hz"),
+    "et": Reference(
+        "et", "Einstein Telescope (ET-B fit)", et_psd, OPTIMAL, 5 / 2, (1.0, 1e4),
+        "Mishra, Arun, Iyer & Sathyaprakash 2010, Phys. Rev. D 82, 064010 (ET-B fit, coefficients from memory)",
+        "treated as one 90-degree interferometer: sky average x 5/2"),
+    "decigo": Reference(
+        "decigo", "DECIGO", decigo_psd, OPTIMAL, 10 / 3, (1e-3, 100.0),
+        "Yagi & Seto 2011, Phys. Rev. D 83, 044011, eq. 5 (formula from memory; erratum PRD 95, 109901)",
+        "taken as non-sky-averaged for 60-degree arms: x 10/3 (an assumption, see the paper)"),
+}
+
+#: Curves with no accepted analytic form: load their published table as a user curve.
+TABULATED_ONLY = {
+    "Cosmic Explorer": "Evans et al. 2021, arXiv:2109.09882 (published ASD table; pass the file to --against)",
+}
+
+
+def get_reference(key: str) -> Reference:
+    """The reference ``key``; unknown keys fail with the list of valid ones."""
+    try:
+        return REFERENCES[key.lower()]
+    except KeyError:
+        raise KeyError(f"unknown reference {key!r}; expected one of {', '.join(REFERENCES)} "
+                       "(or a user curve file)") from None
+
+
+def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
+    """A user curve from CSV or ECSV: a ``frequency`` column (Hz) and ``asd`` (Hz^-1/2) or
+    ``psd`` (1/Hz); the convention comes from the argument or the file's ``convention`` meta
+    (``sky-averaged`` or ``optimal orientation``, then with ``sky_factor``, default 5/2).
+    Interpolated log-log; outside its frequency range the curve is undefined (refused)."""
+    from pathlib import Path
+
+    from astropy.table import Table
+
+    from .errors import InputError
+
+    p = Path(path)
+    try:
+        if p.suffix.lower() == ".ecsv":
+            t = Table.read(p, format="ascii.ecsv")
+        elif p.suffix.lower() == ".csv":
+            t = Table.read(p, format="ascii.csv", comment="#")
+        else:
+            raise InputError("expected a .csv or .ecsv curve file", source=str(p))
+    except FileNotFoundError:
+        raise InputError("curve file not found", source=str(p)) from None
+    except InputError:
+        raise
+    except Exception as exc:  # astropy raises many kinds for malformed tables
+        raise InputError(f"cannot read the curve ({' '.join(str(exc).split())[:160]})", source=str(p)) from None
+    if "frequency" not in t.colnames:
+        raise InputError("missing column 'frequency'", source=str(p), field="frequency")
+    if "asd" in t.colnames:
+        y = np.asarray(t["asd"], dtype=float) ** 2
+    elif "psd" in t.colnames:
+        y = np.asarray(t["psd"], dtype=float)
+    else:
+        raise InputError("expected a column 'asd' or 'psd'", source=str(p), field="asd")
+    f = np.asarray(t["frequency"], dtype=float)
+    if t["frequency"].unit is not None and str(t["frequency"].unit) not in ("Hz", ""):
+        f = (np.asarray(t["frequency"]) * t["frequency"].unit).to_value("Hz")
+    if f.size < 2 or np.any(~np.isfinite(f)) or np.any(f <= 0) or np.any(np.diff(f) <= 0):
+        raise InputError("frequencies must be positive, finite and strictly increasing", source=str(p), field="frequency")
+    if np.any(~np.isfinite(y)) or np.any(y <= 0):
+        raise InputError("values must be positive and finite", source=str(p), field="asd/psd")
+    conv = convention or t.meta.get("convention")
+    if conv not in (SKY, OPTIMAL, "sky", "optimal"):
+        raise InputError("declare the convention: 'sky-averaged' or 'optimal orientation' (meta 'convention' or --convention)",
+                         source=str(p), field="convention", value=conv)
+    conv = SKY if conv.startswith("sky") else OPTIMAL
+    factor = 1.0 if conv == SKY else float(sky_factor or t.meta.get("sky_factor", 5 / 2))
+    lf, ly = np.log(f), np.log(y)
+
+    def psd(x):
+        x = np.asarray(x, dtype=float)
+        if np.any(x < f[0] * (1 - 1e-12)) or np.any(x > f[-1] * (1 + 1e-12)):
+            raise ValueError(f"{p.name} covers {f[0]:g} Hz to {f[-1]:g} Hz only")
+        return np.exp(np.interp(np.log(x), lf, ly))
+
+    return Reference(p.stem, label or str(t.meta.get("label", p.stem)), psd, conv, factor, (float(f[0]), float(f[-1])),
+                     str(t.meta.get("source", f"user curve {p.name}")))
