@@ -304,8 +304,9 @@ def cmd_background(args):
         pi = bg.clock_scan_power_law(design, np.geomspace(lo, hi, steps), T, f, thr, h0=h0)
     except ValueError as exc:
         raise InputError(str(exc), source="command line", field="--scan") from None
-    t["omega_pi_clock"] = Column(pi)
-    series.append((f"{mission.name}: power-law integrated (scan)", f, pi))
+    inscan = (f >= lo) & (f <= hi)
+    t["omega_pi_clock"] = Column(np.where(inscan, pi, np.nan))
+    series.append((f"{mission.name}: power-law integrated (scan)", f[inscan], pi[inscan]))
     for ref, opts in refs:
         key = ref.key
         sn = ref.sky_averaged(f, **opts)
@@ -313,8 +314,7 @@ def cmd_background(args):
         inband = (f >= ref.band[0]) & (f <= ref.band[1])
         if inband.sum() >= 2:
             pif = bg.power_law_integrated(f[inband], sn[inband], T, thr, h0=h0)
-            t[f"omega_pi_{key}"] = Column(np.interp(np.log(f), np.log(f[inband]), np.log(pif)) if False else
-                                          _extend(f, f[inband], pif, ref.band))
+            t[f"omega_pi_{key}"] = Column(_extend(f, pif, inband))
             series.append((f"{ref.label}: power-law integrated", f[inband], pif))
     t.meta.update(provenance(mission.name, digest))
     t.meta.update(snr_threshold=thr, observation_s=T, H0_per_s=h0, scan=f"{lo:g} Hz to {hi:g} Hz in {steps} tunings",
@@ -322,7 +322,7 @@ def cmd_background(args):
                   convention="Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) for sky-averaged S_n; references: known-noise "
                              "single detector (Thrane & Romano 2013); PI columns are NaN outside each band")
     print(bg.SCAN_ASSUMPTION)
-    i = int(np.argmin(pi))
+    i = int(np.argmin(np.where(inscan, pi, np.inf)))
     print(f"clock: best power-law integrated Omega {pi[i]:.3g} at {f[i]:.3g} Hz (SNR {thr:g}, {T / 3.15576e7:.3g} yr)")
     if args.table:
         _save(t, args.table)
@@ -333,10 +333,9 @@ def cmd_background(args):
     return 0
 
 
-def _extend(f, fb, yb, band):
+def _extend(f, values, mask):
     out = np.full(f.shape, np.nan)
-    m = (f >= band[0]) & (f <= band[1])
-    out[m] = yb
+    out[mask] = values
     return out
 
 

@@ -121,3 +121,56 @@ def test_tables_are_deterministic_apart_from_the_timestamp(tmp_path, capsys):
         assert run(["curve", "--points", 40, "--table", tmp_path / name], capsys)[0] == 0
     strip = lambda p: [l for l in p.read_text().splitlines() if "created" not in l]  # noqa: E731
     assert strip(tmp_path / "a.ecsv") == strip(tmp_path / "b.ecsv")
+
+
+def test_reference_export_in_both_conventions(tmp_path, capsys):
+    a, b = tmp_path / "n.ecsv", tmp_path / "s.ecsv"
+    assert run(["reference", "aligo", "--fmin", "10", "--fmax", "1000", "--points", 5, "--table", a], capsys)[0] == 0
+    assert run(["reference", "aligo", "--fmin", "10", "--fmax", "1000", "--points", 5, "--convention", "sky-averaged",
+                "--table", b], capsys)[0] == 0
+    ta, tb = QTable.read(a), QTable.read(b)
+    assert ta.meta["convention"] == "optimal orientation" and tb.meta["convention"] == "sky-averaged"
+    # sky average of a 90-degree interferometer: PSD x 5/2 (PHYSICS.md sec. 8)
+    assert np.allclose((tb["asd"] / ta["asd"]) ** 2, 2.5)
+    assert ta.colnames == ["frequency", "asd"]
+
+
+def test_track_table_columns(tmp_path, capsys):
+    p = tmp_path / "t.ecsv"
+    code, out, _ = run(["track", "--mass1", "30", "--mass2", "30", "--distance", "400 Mpc", "--fmin", "1e-3",
+                        "--table", p, "--plot", tmp_path / "t.png"], capsys)
+    assert code == 0 and "1 yr" in out
+    t = QTable.read(p)
+    assert t.colnames == ["time_to_merger", "frequency", "hc"]
+    assert t["time_to_merger"].unit == "s" and t["frequency"].unit == "Hz"
+
+
+def test_snr_horizon_background_commands(tmp_path, capsys):
+    code, out, _ = run(["snr", "--mass1", "1e4", "--mass2", "1e4", "--redshift", "1", "--against", "lisa", "decigo",
+                        "--table", tmp_path / "s.ecsv"], capsys)
+    assert code == 0 and "LISA" in out
+    assert len(QTable.read(tmp_path / "s.ecsv")) == 3
+    code, out, _ = run(["horizon", "--masses", "1e3", "1e5", "--against", "lisa", "--table", tmp_path / "h.ecsv",
+                        "--plot", tmp_path / "h.png"], capsys)
+    assert code == 0
+    h = QTable.read(tmp_path / "h.ecsv")
+    assert "z_lisa" in h.colnames and h["distance_lisa"].unit == "Mpc"
+    code, out, _ = run(["background", "--points", 60, "--against", "lisa", "--table", tmp_path / "b.ecsv"], capsys)
+    assert code == 0 and "time shared evenly" in out
+    b = QTable.read(tmp_path / "b.ecsv")
+    assert "assumption" in b.meta and "omega_pi_lisa" in b.colnames
+
+
+@pytest.mark.parametrize("argv, fragment", [
+    (["snr"], "give --source FILE"),
+    (["snr", "--mass1", "30", "--mass2", "30"], "exactly one of --distance and --redshift"),
+    (["snr", "--mass1", "30", "--mass2", "30", "--distance", "3 kg"], "--distance"),
+    (["snr", "--mass1", "30", "--mass2", "30", "--redshift", "1", "--against", "virgo"], "unknown reference"),
+    (["reference", "lisa", "--confusion", "3"], "--confusion"),
+    (["background", "--scan", "1 Hz:0.1 Hz:3"], "--scan"),
+    (["track", "--mass1", "30", "--mass2", "30", "--redshift", "0.1", "--fmin", "1e3", "--fmax", "1e4"], "does not radiate"),
+])
+def test_bad_science_command_lines(tmp_path, monkeypatch, capsys, argv, fragment):
+    monkeypatch.chdir(tmp_path)
+    code, out, err = run(argv, capsys)
+    assert code == 2 and fragment in err and err.count("\n") == 1
