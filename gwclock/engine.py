@@ -22,15 +22,14 @@ import numpy as np
 
 from . import noises, projection, response
 from .mission import Design
-from .sequences import SEQUENCES, Ramsey, optimal_interrogation
+from .sequences import SEQUENCES, Periodic, Ramsey, optimal_interrogation
 
 __all__ = ["Budget", "envelope", "window", "window_psd", "evaluate", "optimise", "frequency_grid", "signal_response", "CHUNK"]
 
 #: Frequencies evaluated at once (bounds memory on large grids).
 CHUNK = 4096
-_COARSE = 14
-_REFINE = 6
 _RAMSEY = SEQUENCES["ramsey"]
+_RAMSEY_ROUGH = Ramsey(harmonics=0)
 
 
 @dataclass(frozen=True)
@@ -115,7 +114,9 @@ def evaluate(design: Design, kind, f0, n, T):
     Parameters broadcast together. Returns a dict with the equivalent fractional-frequency PSD
     of every noise (``noises.NOISES`` keys, 1/Hz), ``log_contrast``, ``correlated`` and ``cycle``.
     """
-    f0, n, T = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (f0, n, T)))
+    f0, n, T = (np.asarray(v, dtype=float) for v in (f0, n, T))
+    shape = np.broadcast(f0, n, T).shape
+    n, T = np.broadcast_to(n, shape), np.broadcast_to(T, shape)
     Tc = T + design.dead_time
     eps = kind.pulse_error(design)
     log_c = -T / design.coherence_time + n * np.log1p(-eps)
@@ -124,13 +125,15 @@ def evaluate(design: Design, kind, f0, n, T):
         cm = kind.common_mode(design, noises.laser_terms(design), f0, n, T)
         correlated = cm > projection.CORRELATED_THRESHOLD
     else:
-        correlated = np.full(f0.shape, design.comparison == "correlated")
+        correlated = np.full(shape, design.comparison == "correlated")
     var = projection.phase_variance(design.atom_number, log_c, design.squeezing, correlated)
     out = {"projection": 2 * Tc * var / ((2 * np.pi * design.nu0) ** 2 * G0sq)}
     for name, terms_of in noises.STATIONARY_NOISES.items():
         terms = terms_of(design)
-        out[name] = kind.aliased(design, terms, f0, n, T, Tc) / G0sq if terms else np.zeros(f0.shape)
-    out.update(log_contrast=log_c, correlated=correlated, cycle=Tc, pulses=n, interrogation=T)
+        out[name] = kind.aliased(design, terms, f0, n, T, Tc) / G0sq if terms else np.zeros(shape)
+    out = {k: np.broadcast_to(v, shape) for k, v in out.items()}
+    out.update(log_contrast=np.broadcast_to(log_c, shape), correlated=np.broadcast_to(correlated, shape),
+               cycle=Tc, pulses=n, interrogation=T)
     return out
 
 
@@ -139,7 +142,140 @@ def _total(parts):
 
 
 def _pick(parts, index):
-    return {k: np.take_along_axis(np.asarray(v), index[..., None], axis=-1)[..., 0] for k, v in parts.items()}
+    """Select along the leading (candidate) axis."""
+    return {k: np.take_along_axis(np.asarray(v), index[None], axis=0)[0] for k, v in parts.items()}
+
+
+def _bisect_optimum(design, kind, f0, lo, hi, a, b, q, tau_e):
+    """Continuous T in [lo, hi] minimising (T + Td) [a/T + (b + q exp(2T/tau_e))/T^2].
+
+    The stationary point solves q e^{2T/tau_e} P(T) = (b + a Td) T + 2 b Td with
+    P = (2/tau_e) T^2 + (2 Td/tau_e - 1) T - 2 Td; found by bisection in log T (the left side
+    grows without bound, so the root is unique above the projection-only optimum).
+    """
+    Td = design.dead_time
+    left = np.log(np.maximum(lo, 1e-300))
+    right = np.log(np.maximum(hi, 1e-300))
+
+    def positive(T):
+        P = (2 / tau_e) * T**2 + (2 * Td / tau_e - 1) * T - 2 * Td
+        rhs = (b + a * Td) * T + 2 * b * Td
+        with np.errstate(divide="ignore"):
+            lhs_log = np.log(q) + np.minimum(2 * T / tau_e, 1e300) + np.log(np.where(P > 0, P, 1.0))
+            rhs_log = np.log(np.where(rhs > 0, rhs, 1e-300))
+        return (P > 0) & (lhs_log > rhs_log)
+
+    done_hi = ~positive(np.exp(right))  # derivative still negative at hi: the optimum is hi
+    for _ in range(26):
+        mid = 0.5 * (left + right)
+        up = positive(np.exp(mid))
+        right = np.where(up, mid, right)
+        left = np.where(up, left, mid)
+    T = np.exp(0.5 * (left + right))
+    return np.where(done_hi, hi, T)
+
+
+def _periodic_wishes(design, kind, f0):
+    """Candidate interrogation times for a CPMG-timed kind: the analytic optimum of each read-out
+    mode, both sides of the linear/correlated switch, and the ends of the allowed range."""
+    from .filters import finite_pulse_factor
+    lo = kind.min_pulses() / (2 * f0)
+    hi = np.broadcast_to(design.max_interrogation, f0.shape)
+    eps = -np.log1p(-kind.pulse_error(design))
+    tau_e = 1 / (1 / design.coherence_time + 2 * f0 * eps)
+    G0fac = (2 / np.pi) ** 2 * finite_pulse_factor(2 * f0 * design.pi_pulse_duration) ** 2
+    U = 0.0
+    V = 0.0
+    for terms_of in noises.STATIONARY_NOISES.values():
+        for term in terms_of(design):
+            i1 = kind.noise_integral(design, term, f0, 1.0, 1.0)
+            i0 = kind.noise_integral(design, term, f0, 1.0, 0.0)
+            U, V = U + (i1 - i0), V + i0
+    a, b = 2 * U / G0fac, 2 * V / G0fac
+    base = 4 / (design.atom_number * (2 * np.pi * design.nu0) ** 2 * G0fac)
+    t_qpn = np.clip(optimal_interrogation(tau_e, design.dead_time), lo, hi)
+    wishes = []
+    if design.comparison in ("linear", "auto"):
+        wishes.append(_bisect_optimum(design, kind, f0, t_qpn, hi, a, b, base * design.squeezing, tau_e))
+    if design.comparison in ("correlated", "auto"):
+        t_guess = wishes[0] if wishes else t_qpn
+        kappa = projection.correlation_penalty(np.exp(-t_guess / tau_e))
+        wishes.append(_bisect_optimum(design, kind, f0, t_qpn, hi, a, b, base * kappa, tau_e))
+    if design.comparison == "auto":
+        cm1 = kind.common_mode(design, noises.laser_terms(design), f0, 1.0, 1.0)
+        with np.errstate(divide="ignore"):
+            t_sw = np.where(cm1 > 0, projection.CORRELATED_THRESHOLD / cm1, hi)
+        wishes.append(np.clip(t_sw, lo, hi))
+    step = kind.step / (4 * f0)
+    out = [lo, hi]
+    for w in wishes:
+        out += [w - step, w + step]
+    return np.stack(np.broadcast_arrays(*out))
+
+
+def _ramsey_wishes(design, f0):
+    """Candidate Ramsey interrogation times: the analytic optimum of projection plus white and
+    white-phase noise (|G(f0)| ~ T at low frequency) for each read-out mode, and the range ends;
+    ``snap`` moves long ones onto a lobe maximum of |sin(pi f0 T)|."""
+    hi = np.broadcast_to(design.max_interrogation, np.shape(f0)).astype(float)
+    lo = np.broadcast_to(np.maximum(1e-3 * design.max_interrogation, 2.5 * design.pi_pulse_duration),
+                         np.shape(f0)).astype(float)
+    tau = np.broadcast_to(design.coherence_time, np.shape(f0)).astype(float)
+    a = 0.0
+    b = 0.0
+    for terms_of in noises.STATIONARY_NOISES.values():
+        for term in terms_of(design):
+            if term.alpha == 0:
+                a = a + term.level * np.where(np.asarray(term.low) > 0, 0.0, 1.0)
+            elif term.alpha == 2:
+                b = b + 2 * term.level * np.maximum(term.cutoff - term.low, 0.0) / (2 * np.pi**2)
+    base = 4 / (design.atom_number * (2 * np.pi * design.nu0) ** 2)
+    t_qpn = np.clip(optimal_interrogation(tau, design.dead_time), lo, hi)
+    x = np.linspace(0.0, 1.0, 16).reshape((-1,) + (1,) * np.ndim(f0))
+    wishes = list(lo * (hi / lo) ** x) + [t_qpn, 1 / (2 * f0)]
+    if design.comparison in ("linear", "auto"):
+        wishes.append(_bisect_optimum(design, None, f0, t_qpn, hi, a, b, base * design.squeezing, tau))
+    if design.comparison in ("correlated", "auto"):
+        kappa = projection.correlation_penalty(np.exp(-t_qpn / tau))
+        wishes.append(_bisect_optimum(design, None, f0, t_qpn, hi, a, b, base * kappa, tau))
+    if design.comparison == "auto":
+        cm1 = _RAMSEY.common_mode(design, noises.laser_terms(design), f0, 0.0, 1.0)
+        with np.errstate(divide="ignore"):
+            wishes.append(np.clip(np.where(cm1 > 0, projection.CORRELATED_THRESHOLD / cm1, hi), lo, hi))
+    return np.stack(np.broadcast_arrays(*wishes))
+
+
+def _best(design, kind, f0):
+    """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity."""
+    f0 = np.asarray(f0, dtype=float)
+    if isinstance(kind, Periodic) and kind.fixed is None:
+        wish = _periodic_wishes(design, kind, f0)
+    elif kind.dd:  # echo, custom: one sequence per tuning
+        wish = (1.0 / (2 * f0))[None]
+    else:
+        return _best_ramsey(design, kind, f0)
+    n, T, valid = kind.snap(design, f0, wish)
+    parts = evaluate(design, kind, f0, n, T)
+    score = np.where(valid, _total(parts), np.inf)
+    i = np.argmin(score, axis=0)
+    best = _pick(parts, i)
+    ok = np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
+    return best, ok
+
+
+def _best_ramsey(design, kind, f0, keep=3):
+    """Ramsey: rank many candidates with the cheap aliasing sum (the m = 0 term and the smooth
+    tail), then evaluate the best ``keep`` with the full discrete sum."""
+    wish = _ramsey_wishes(design, f0)
+    n, T, valid = kind.snap(design, f0, wish)
+    rough = np.where(valid, _total(evaluate(design, _RAMSEY_ROUGH, f0, n, T)), np.inf)
+    order = np.argsort(rough, axis=0)[:keep]
+    n, T = np.take_along_axis(n, order, 0), np.take_along_axis(T, order, 0)
+    valid = np.take_along_axis(valid, order, 0)
+    parts = evaluate(design, kind, f0, n, T)
+    score = np.where(valid, _total(parts), np.inf)
+    i = np.argmin(score, axis=0)
+    return _pick(parts, i), np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
 
 
 def optimise(design: Design, f0, kind: str | None = None):
@@ -160,39 +296,6 @@ def optimise(design: Design, f0, kind: str | None = None):
         sequence of that kind reaches f0.
     """
     return _best(design, SEQUENCES[kind or design.kind], np.atleast_1d(np.asarray(f0, dtype=float)))
-
-
-def _best(design, kind, f0):
-    """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity."""
-    f0 = f0[:, None]
-    t_lo = np.full(f0.shape, max(1e-3 * design.max_interrogation, 2.5 * design.pi_pulse_duration))
-    if kind.dd:
-        t_lo = np.maximum(t_lo, 1 / (2 * f0))
-    t_hi = design.max_interrogation
-    eps = -np.log1p(-kind.pulse_error(design))
-    tau_eff = 1 / (1 / design.coherence_time + 2 * f0 * eps)
-    t_opt = optimal_interrogation(tau_eff, design.dead_time)
-    grid = np.linspace(0.0, 1.0, _COARSE)
-    wish = np.concatenate([t_lo * (t_hi / np.minimum(t_lo, t_hi)) ** grid, t_opt], axis=1)
-    n, T, valid = kind.snap(design, f0, wish)
-    parts = evaluate(design, kind, f0, n, T)
-    score = np.where(valid, _total(parts), np.inf)
-    i = np.argmin(score, axis=1)
-    # refine between the neighbours of the coarse optimum
-    lo = np.take_along_axis(wish, np.clip(i - 1, 0, _COARSE - 1)[:, None], 1)
-    hi = np.take_along_axis(wish, np.clip(i + 1, 0, _COARSE - 1)[:, None], 1)
-    lo, hi = np.minimum(lo, hi), np.maximum(lo, hi)
-    wish2 = lo * (hi / lo) ** np.linspace(0, 1, _REFINE)[None, :]
-    n2, T2, valid2 = kind.snap(design, f0, wish2)
-    parts2 = evaluate(design, kind, f0, n2, T2)
-    score2 = np.where(valid2, _total(parts2), np.inf)
-    merged = {k: np.concatenate([np.broadcast_to(parts[k], score.shape), np.broadcast_to(parts2[k], score2.shape)], axis=1)
-              for k in parts}
-    allscore = np.concatenate([score, score2], axis=1)
-    k = np.argmin(allscore, axis=1)
-    best = _pick(merged, k)
-    ok = np.isfinite(np.take_along_axis(allscore, k[:, None], 1)[:, 0])
-    return best, ok
 
 
 def signal_response(design: Design, frequency):
@@ -227,18 +330,31 @@ def _best_with_fallback(design, f0):
     best, ok = _best(design, kind, f0)
     if isinstance(kind, Ramsey):
         return best, ok
-    look = np.ones(f0.shape, dtype=bool)
-    if np.any(look):
-        rb, rok = _best(design, _RAMSEY, f0[look])
-        mine = {k: np.asarray(v)[look] for k, v in best.items()}
-        take = rok & (~ok[look] | (_total(rb) < _total(mine)))
-        idx = np.flatnonzero(look)[take]
-        best = {k: np.array(v, dtype=bool if k == "correlated" else float) for k, v in best.items()}
-        for key in best:
-            best[key][idx] = np.asarray(rb[key])[take]
+    # Ramsey can only win where its cost without the (positive) red-noise terms is lower
+    look = ~ok | (_ramsey_floor(design, f0) < _total(best))
+    if not np.any(look):
+        return best, ok
+    sub = design.take(look, f0.size)
+    rb, rok = _best(sub, _RAMSEY, f0[look])
+    idx = np.flatnonzero(look)
+    take = rok & (~ok[look] | (_total(rb) < _total({k: v[look] for k, v in best.items()})))
+    if np.any(take):
+        best = {k: np.array(v) for k, v in best.items()}
+        for k in best:
+            best[k][idx[take]] = rb[k][take]
         ok = ok.copy()
-        ok[idx] = True
+        ok[idx[take]] = True
     return best, ok
+
+
+def _ramsey_floor(design, f0):
+    """A lower bound of the best Ramsey S_y,eq at f0: projection and the white and rising terms
+    only, minimised over the Ramsey candidates (the red-noise aliasing sum is left out)."""
+    no_red = design.replace(acceleration_noise=0.0, flicker_floor=0.0 * design.flicker_floor)
+    wish = _ramsey_wishes(design, f0)
+    n, T, valid = _RAMSEY.snap(design, f0, wish)
+    parts = evaluate(no_red, _RAMSEY, f0, n, T)
+    return np.min(np.where(valid, _total(parts), np.inf), axis=0)
 
 
 def window_psd(design: Design, tunings, frequency):
@@ -297,12 +413,17 @@ def envelope(design: Design, frequency) -> Budget:
         1/(2 t_pi)) the clock falls back to Ramsey interrogation.
     """
     f = _check_grid(frequency)
+    return _assemble(design, f, f, _envelope_parts(design, f), "envelope")
+
+
+def _envelope_parts(design, f):
+    """Best sequence at every point, in chunks (design fields may be arrays matching f)."""
     pieces = []
     for start in range(0, f.size, CHUNK):
-        best, _ = _best_with_fallback(design, f[start:start + CHUNK])
+        part = slice(start, start + CHUNK)
+        best, _ = _best_with_fallback(design.take(part, f.size), f[part])
         pieces.append(best)
-    parts = {k: np.concatenate([p[k] for p in pieces]) for k in pieces[0]}
-    return _assemble(design, f, f, parts, "envelope")
+    return {k: np.concatenate([p[k] for p in pieces]) for k in pieces[0]}
 
 
 def window(design: Design, frequency, tune: float | None = None) -> Budget:

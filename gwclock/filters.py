@@ -191,7 +191,16 @@ def _partial_odd(s, count):
     if s <= 1:
         raise ValueError("s must be 0, 1 or greater than 1")
     full = (1 - 2.0 ** (-s)) * special.zeta(s)
-    tail = np.where(finite, 2.0 ** (-s) * special.zeta(s, c), 0.0)
+    # Hurwitz zeta; for large q its Euler-Maclaurin series q^(1-s)/(s-1) + q^(-s)/2 + s q^(-s-1)/12
+    # is exact to double precision and much cheaper
+    big = c > 1e4
+    qs = np.where(big, c, 1e4)
+    series = qs ** (1 - s) / (s - 1) + 0.5 * qs ** (-s) + s * qs ** (-s - 1) / 12
+    small = ~big & finite
+    hz = np.zeros(c.shape)
+    if np.any(small):
+        hz[small] = special.zeta(s, c[small])
+    tail = np.where(finite, 2.0 ** (-s) * np.where(big, series, hz), 0.0)
     return np.where(count > 0, full - tail, 0.0)
 
 

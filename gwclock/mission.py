@@ -282,6 +282,18 @@ class Design:
     pulse_times: tuple[float, ...]
     duration: float
 
+    def take(self, index, size: int) -> "Design":
+        """The design at ``index`` of evaluation points: array fields of length ``size`` are indexed."""
+        from dataclasses import fields, replace
+
+        import numpy as np
+        changes = {}
+        for f in fields(self):
+            v = getattr(self, f.name)
+            if isinstance(v, np.ndarray) and v.ndim == 1 and v.size == size:
+                changes[f.name] = v[index]
+        return replace(self, **changes) if changes else self
+
     def replace(self, **changes: Any) -> "Design":
         """A copy with some fields changed (no validation: library use only)."""
         from dataclasses import replace

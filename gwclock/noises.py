@@ -76,14 +76,13 @@ def shot_terms(design):
     the receiving laser copies it: ``S_y = (f/nu0)^2 S_phi``, white phase (alpha = 2). Above B the
     loop passes ``(B/f)^2`` of it, a white-frequency plateau ``(B/nu0)^2 S_phi``. Both stop at the
     pulse bandwidth 1/(2 t_pi). A two-way link has two received beams (twice the PSD).
+    Parameters may be arrays (one value per evaluation point).
     """
     s_phi = _legs(design) * h * design.nu0 / received_power(design)
     top = pulse_bandwidth(design)
     B = design.phase_lock_bandwidth
-    terms = [PowerLaw(s_phi / design.nu0**2, 2, min(B, top))]
-    if B < top:
-        terms.append(PowerLaw(s_phi * B**2 / design.nu0**2, 0, top, B))
-    return terms
+    return [PowerLaw(s_phi / design.nu0**2, 2, np.minimum(B, top)),
+            PowerLaw(s_phi * B**2 / design.nu0**2, 0, top, B)]  # empty when B >= top
 
 
 def laser_terms(design):
@@ -92,12 +91,8 @@ def laser_terms(design):
     ``S_y = Delta_nu / (pi nu0^2)`` for a Lorentzian of FWHM Delta_nu, and
     ``h_-1 = sigma_fl^2 / (2 ln 2)`` for a flicker floor sigma_fl of the Allan deviation.
     """
-    terms = []
-    if design.linewidth > 0:
-        terms.append(PowerLaw(design.linewidth / (np.pi * design.nu0**2), 0))
-    if design.flicker_floor > 0:
-        terms.append(PowerLaw(design.flicker_floor**2 / (2 * np.log(2)), -1))
-    return terms
+    return [PowerLaw(design.linewidth / (np.pi * design.nu0**2), 0),
+            PowerLaw(design.flicker_floor**2 / (2 * np.log(2)), -1)]
 
 
 def laser_residual_terms(design):
@@ -109,16 +104,14 @@ def laser_residual_terms(design):
     receiving laser's own noise outside the loop is not modelled (assumed below the other
     terms). Rising terms stop at the pulse bandwidth 1/(2 t_pi).
     """
-    out = []
     top = pulse_bandwidth(design)
     B = design.phase_lock_bandwidth
     k_time = (2 * np.pi * design.timing_mismatch) ** 2
     k_gain = design.gain_mismatch**2
+    out = []
     for term in laser_terms(design):
-        if k_time > 0:
-            out.append(PowerLaw(k_time * term.level, term.alpha + 2, min(B, top)))
-        if k_gain > 0:
-            out.append(PowerLaw(k_gain * term.level, term.alpha, B))
+        out.append(PowerLaw(k_time * term.level, term.alpha + 2, np.minimum(B, top)))
+        out.append(PowerLaw(k_gain * term.level, term.alpha, B))
     return out
 
 
@@ -129,10 +122,7 @@ def acceleration_terms(design):
     ``S_a = a^2 [1 + (f_c / f)^2]`` (a = per-test-mass ASD, f_c = optional low-frequency corner).
     """
     level = _legs(design) * 2 * design.acceleration_noise**2 / ((2 * np.pi) ** 2 * c**2)
-    terms = [PowerLaw(level, -2)] if level > 0 else []
-    if level > 0 and design.acceleration_corner > 0:
-        terms.append(PowerLaw(level * design.acceleration_corner**2, -4))
-    return terms
+    return [PowerLaw(level, -2), PowerLaw(level * design.acceleration_corner**2, -4)]
 
 
 #: Stationary noises: name -> function(design) -> list of PowerLaw (fractional frequency).

@@ -101,13 +101,17 @@ class Periodic:
         return filters.periodic_filter_modulus(f, T, n, design.pi_pulse_duration)
 
     def noise_integral(self, design, term, f0, n, T):
-        return term.level * filters.periodic_noise_integral(term.alpha, T, f0, term.cutoff, term.low)
+        # linear in T: evaluate the harmonic sums on f0's own shape, then scale by T
+        at0 = filters.periodic_noise_integral(term.alpha, 0.0, f0, term.cutoff, term.low)
+        at1 = filters.periodic_noise_integral(term.alpha, 1.0, f0, term.cutoff, term.low)
+        return term.level * (at0 + (at1 - at0) * np.asarray(T, dtype=float))
 
     def aliased(self, design, terms, f0, n, T, Tc):
         """sum_m S(|f0 + m/Tc|) |G|^2 in its smooth-noise form 2 Tc integral S |G|^2 df."""
         out = 0.0
         for term in terms:
-            out = out + self.noise_integral(design, term, f0, n, T)
+            if np.any(term.level):
+                out = out + self.noise_integral(design, term, f0, n, T)
         return 2 * Tc * out
 
     def common_mode(self, design, terms, f0, n, T):
@@ -127,7 +131,9 @@ class Ramsey:
 
     dd = False
     name = "ramsey"
-    harmonics = 16
+
+    def __init__(self, harmonics=16):
+        self.harmonics = harmonics
 
     @staticmethod
     def pulse_error(design):
@@ -155,28 +161,34 @@ class Ramsey:
     def aliased(self, design, terms, f0, n, T, Tc):
         T = np.asarray(T, dtype=float)
         Tc = np.asarray(Tc, dtype=float)
-        out = 0.0
-        smooth = [t for t in terms if t.alpha >= 0]
-        for term in smooth:
-            # white FM: exact for Tc = T (sum_m sinc^2(x + m) = 1); rising terms: plateau of |G|^2
-            if term.alpha == 0 and term.low == 0:
-                out = out + term.level * Tc * T
+        shape = np.broadcast(f0, T, Tc).shape
+        out = np.zeros(shape)
+        red = []
+        for term in terms:
+            if not np.any(term.level):
+                continue
+            if term.alpha < 0:
+                red.append(term)
+            elif term.alpha == 0:
+                # white FM: exact for Tc = T (sum_m sinc^2(x + m) = 1) when it has no lower edge;
+                # band-limited white and rising terms use the plateau 1/(2 pi^2 f^2) of |G|^2
+                lo = np.maximum(term.low, 1.0 / T)
+                plateau = 2 * Tc * term.level * _power_integral(0, lo, term.cutoff) / (2 * np.pi**2)
+                out = out + np.where(np.asarray(term.low) > 0, plateau, term.level * Tc * T)
             else:
                 lo = np.maximum(term.low, 1.0 / T)  # the plateau starts above the main lobe
                 out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
-        red = [t for t in terms if t.alpha < 0]
         if not red:
-            return out + np.zeros(np.broadcast(f0, T).shape)
-        floor = 1.0 / design.duration
-        m = np.arange(-self.harmonics, self.harmonics + 1)
-        f0e, Te, Tce = (np.asarray(v, dtype=float)[..., None] for v in (f0, T, Tc))
-        fm = f0e + m / Tce
+            return out
+        # exact discrete sum over the cycle harmonics (leading axis), then the smooth tail
+        floor = 1.0 / np.asarray(design.duration, dtype=float)
+        m = np.arange(-self.harmonics, self.harmonics + 1).reshape((-1,) + (1,) * len(shape))
+        fm = f0 + m / Tc
         fa = np.maximum(np.abs(fm), floor)
-        G2 = (Te * np.sinc(fm * Te)) ** 2
-        for term in red:
-            out = out + np.sum(term(fa) * G2, axis=-1)
+        G2 = (T * np.sinc(fm * T)) ** 2
         f_edge = (self.harmonics + 0.5) / Tc
         for term in red:
+            out = out + np.sum(term(fa) * G2, axis=0)
             lo = np.maximum(f_edge, term.low)
             out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
         return out
@@ -287,7 +299,7 @@ class Custom:
     def noise_integral(self, design, term, f0, n, T):
         T = np.asarray(T, dtype=float)
         unit = self.unit(design)
-        inner = unit.moment(term.alpha, term.cutoff * T) - (unit.moment(term.alpha, term.low * T) if term.low > 0 else 0.0)
+        inner = unit.moment(term.alpha, term.cutoff * T) - unit.moment(term.alpha, term.low * T)
         return term.level * T ** (1.0 - term.alpha) * inner
 
     aliased = Periodic.aliased
