@@ -219,8 +219,9 @@ def build_parser():
     sp.set_defaults(func=cmd_window)
     sp = sub.add_parser("species", help="list the clock species presets with their sources")
     sp.set_defaults(func=cmd_species)
-    from .cli_science import add_commands
-    add_commands(sub, mission_arg, grid_args)
+    from . import cli_science, cli_study
+    cli_science.add_commands(sub, mission_arg, grid_args)
+    cli_study.add_commands(sub, mission_arg, grid_args)
     return p
 
 

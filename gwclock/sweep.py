@@ -1,0 +1,299 @@
+"""Trade studies: parameter sweeps, uncertainty bands and requirement solving.
+
+A study varies dotted mission fields over a grid; every grid point is rebuilt through the same
+validation as a mission file (an invalid point is reported in its row and the sweep goes on),
+and figures of merit (metrics) are evaluated for all valid points in one vectorised pass per
+chunk.
+"""
+
+from __future__ import annotations
+
+import itertools
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from .errors import InputError
+
+__all__ = ["Axis", "parse_vary", "parse_metric", "Metric", "points", "evaluate_points", "require",
+           "parse_perturb", "perturbed_metrics"]
+
+
+@dataclass(frozen=True)
+class Axis:
+    """One varied field: dotted name, the values (text with units, for validation) and numbers."""
+
+    field: str
+    texts: tuple
+    values: np.ndarray
+    unit: str
+    log: bool
+
+
+def _field_unit(mission, field):
+    import astropy.units as u
+    node = mission
+    for part in field.split("."):
+        if not hasattr(node, part):
+            raise InputError("no such mission field", source="command line", field=field)
+        node = getattr(node, part)
+    if isinstance(node, u.Quantity):
+        return node.unit.to_string()
+    if node is None and field == "clock.coherence_time":
+        return "s"
+    if node is None and field == "sequence.max_interrogation":
+        return "s"
+    if isinstance(node, bool) or not isinstance(node, (int, float)):
+        raise InputError("only numeric fields can be varied", source="command line", field=field)
+    return ""
+
+
+def parse_vary(text, mission) -> Axis:
+    """``FIELD=START:STOP:COUNT[:log]`` with units on START and STOP for quantity fields."""
+    from .quantities import parse_quantity
+    m = re.fullmatch(r"\s*([\w.]+)\s*=\s*(.+)", text or "")
+    if not m:
+        raise InputError("expected FIELD=START:STOP:COUNT[:log]", source="command line", field="--vary", value=text)
+    field, rest = m.group(1), m.group(2)
+    parts = [p.strip() for p in rest.split(":")]
+    if len(parts) not in (3, 4) or (len(parts) == 4 and parts[3] not in ("log", "lin")):
+        raise InputError("expected FIELD=START:STOP:COUNT[:log]", source="command line", field="--vary", value=text)
+    unit = _field_unit(mission, field)
+    try:
+        count = int(parts[2])
+    except ValueError:
+        raise InputError("COUNT must be a whole number", source="command line", field="--vary", value=text) from None
+    if not 1 <= count <= 1_000_000:
+        raise InputError("COUNT must be between 1 and 1e6", source="command line", field="--vary", value=text)
+    try:
+        if unit:
+            lo, hi = (float(parse_quantity(p, unit).value) for p in parts[:2])
+        else:
+            lo, hi = float(parts[0]), float(parts[1])
+    except ValueError as exc:
+        raise InputError(str(exc), source="command line", field=f"--vary {field}", value=rest) from None
+    log = len(parts) == 4 and parts[3] == "log"
+    if log and (lo <= 0 or hi <= 0):
+        raise InputError("a log axis needs positive ends", source="command line", field=f"--vary {field}", value=rest)
+    values = np.geomspace(lo, hi, count) if log else np.linspace(lo, hi, count)
+    texts = tuple(f"{float(v)!r} {unit}" if unit else float(v) for v in values)
+    return Axis(field, texts, values, unit, log)
+
+
+@dataclass(frozen=True)
+class Metric:
+    """A figure of merit: ``kind`` with its argument; ``columns`` it fills."""
+
+    text: str
+    kind: str
+    arg: object
+    columns: tuple
+    units: tuple
+    better: str  # "low" or "high": which way is better
+
+
+def parse_metric(text) -> Metric:
+    """``asd@FREQ``, ``band@LEVEL``, ``snr:FILE[:SCHEDULE]``, ``horizon:MASS``, ``power_needed@FREQ``."""
+    from .quantities import parse_frequency
+    t = (text or "").strip()
+    try:
+        if t.startswith("asd@"):
+            f = parse_frequency(t[4:])
+            return Metric(t, "asd", f, (f"asd@{f:g}Hz",), ("Hz(-1/2)",), "low")
+        if t.startswith("power_needed@"):
+            f = parse_frequency(t[13:])
+            return Metric(t, "power", f, (f"power_needed@{f:g}Hz",), ("W",), "low")
+        if t.startswith("band@"):
+            level = float(t[5:])
+            if not level > 0:
+                raise ValueError("level must be positive")
+            return Metric(t, "band", level, (f"band_low@{level:g}", f"band_high@{level:g}"), ("Hz", "Hz"), "high")
+        if t.startswith("horizon:"):
+            mass = float(t[8:])
+            if not mass > 0:
+                raise ValueError("mass must be positive")
+            return Metric(t, "horizon", mass, (f"horizon_z@{mass:g}Msun",), ("",), "high")
+        if t.startswith("snr:"):
+            rest = t[4:]
+            schedule = "track"
+            for s in ("fixed", "track", "best"):
+                if rest.endswith(":" + s):
+                    rest, schedule = rest[: -len(s) - 1], s
+            from .sources import load_sources
+            sources = load_sources(rest)
+            cols = tuple(f"snr[{schedule}]:{src.name}" for src in sources)
+            return Metric(t, "snr", (sources, schedule), cols, ("",) * len(cols), "high")
+    except ValueError as exc:
+        raise InputError(str(exc), source="command line", field="--metric", value=text) from None
+    raise InputError("expected asd@FREQ, band@LEVEL, snr:SOURCE_FILE[:SCHEDULE], horizon:MASS or power_needed@FREQ",
+                     source="command line", field="--metric", value=text)
+
+
+def points(mission, axes):
+    """Every grid point: (changes dict, Mission or None, reason)."""
+    out = []
+    for combo in itertools.product(*[range(len(a.texts)) for a in axes]):
+        changes = {a.field: a.texts[i] for a, i in zip(axes, combo)}
+        try:
+            out.append((combo, mission.clone(**changes), ""))
+        except Exception as exc:  # pydantic ValidationError: report in the row
+            out.append((combo, None, _reason(exc)))
+    return out
+
+
+def _reason(exc):
+    try:
+        err = exc.errors(include_url=False)[0]
+        loc = ".".join(str(p) for p in err["loc"] if not (isinstance(p, str) and "[" in p))
+        msg = err["msg"].replace("Value error, ", "")
+        return f"{loc}: {msg}" if loc else msg
+    except Exception:
+        return " ".join(str(exc).split())
+
+
+BAND_GRID = np.geomspace(1e-5, 100.0, 240)
+
+
+def evaluate_points(designs, metrics):
+    """Metric values for a list of designs: dict column -> array (len(designs))."""
+    from .batch import batch_budget
+    V = len(designs)
+    out = {}
+    if V == 0:
+        for m in metrics:
+            for c in m.columns:
+                out[c] = np.zeros(0)
+        return out
+    need_curve = any(m.kind in ("band", "snr", "horizon") for m in metrics)
+    curve = batch_budget(designs, BAND_GRID) if need_curve else None
+    for m in metrics:
+        if m.kind == "asd":
+            out[m.columns[0]] = np.sqrt(batch_budget(designs, [m.arg])["total"][:, 0])
+        elif m.kind == "band":
+            below = np.sqrt(curve["total"]) <= m.arg
+            lo = np.where(below.any(1), BAND_GRID[np.argmax(below, 1)], np.nan)
+            hi = np.where(below.any(1), BAND_GRID[BAND_GRID.size - 1 - np.argmax(below[:, ::-1], 1)], np.nan)
+            out[m.columns[0]], out[m.columns[1]] = lo, hi
+        elif m.kind == "power":
+            out[m.columns[0]] = _power_needed(designs, m.arg)
+        elif m.kind in ("snr", "horizon"):
+            values = _per_curve(designs, curve, m)
+            for c, v in zip(m.columns, values):
+                out[c] = v
+    return out
+
+
+def _tuned_curves(designs, curve):
+    from .snr import TunedCurve
+    curves = []
+    for i, d in enumerate(designs):
+        c = TunedCurve.__new__(TunedCurve)
+        c.design, c.band, c.f = d, (BAND_GRID[0], BAND_GRID[-1]), BAND_GRID
+        c.lf, c.ls, c.interrogation = np.log(BAND_GRID), np.log(curve["total"][i]), curve["interrogation"][i]
+        curves.append(c)
+    return curves
+
+
+def _per_curve(designs, curve, m):
+    from .horizon import horizon
+    from .snr import clock_snr
+    curves = _tuned_curves(designs, curve)
+    if m.kind == "snr":
+        sources, schedule = m.arg
+        return [np.array([clock_snr(c, s, schedule).snr for c in curves]) for s in sources]
+    return [np.array([horizon(lambda s, c=c: clock_snr(c, s, "track").snr, m.arg, 8.0)[0] for c in curves])]
+
+
+def _power_needed(designs, f0):
+    """Transmit power at which shot noise equals projection noise at f0 (sequence re-optimised),
+    by bracketed root finding on log P; NaN when no power in 1e-9..1e6 W achieves it."""
+    from scipy.optimize import brentq
+
+    from .batch import batch_budget
+    out = np.full(len(designs), np.nan)
+    for i, d in enumerate(designs):
+        def gap(logp, d=d):
+            b = batch_budget([d.replace(transmit_power=float(np.exp(logp)))], [f0], noise_terms=True)
+            return np.log(b["shot"][0, 0]) - np.log(b["projection"][0, 0])
+        lo, hi = np.log(1e-9), np.log(1e6)
+        g_lo, g_hi = gap(lo), gap(hi)
+        if g_lo > 0 > g_hi:
+            out[i] = float(np.exp(brentq(gap, lo, hi, xtol=1e-8)))
+    return out
+
+
+def parse_perturb(text, mission):
+    """``FIELD=REL_SIGMA``: relative 1-sigma (Gaussian, truncated to stay positive)."""
+    m = re.fullmatch(r"\s*([\w.]+)\s*=\s*([0-9.eE+-]+)\s*", text or "")
+    if not m:
+        raise InputError("expected FIELD=REL_SIGMA", source="command line", field="--perturb", value=text)
+    field, sigma = m.group(1), float(m.group(2))
+    _field_unit(mission, field)
+    if not 0 < sigma < 1:
+        raise InputError("REL_SIGMA must lie in (0, 1)", source="command line", field="--perturb", value=text)
+    return field, sigma
+
+
+def _field_value(mission, field):
+    import astropy.units as u
+    node = mission
+    for part in field.split("."):
+        node = getattr(node, part)
+    if node is None and field == "clock.coherence_time":
+        node = mission.coherence_time
+    if node is None and field == "sequence.max_interrogation":
+        node = mission.max_interrogation
+    return (float(node.value), node.unit.to_string()) if isinstance(node, u.Quantity) else (float(node), "")
+
+
+def perturbed_metrics(mission, metrics, perturb, samples, seed):
+    """Monte-Carlo over uncertain inputs: per metric column, (median, 5 %, 95 %)."""
+    rng = np.random.default_rng(seed)
+    designs = []
+    for _ in range(samples):
+        changes = {}
+        for field, sigma in perturb:
+            v, unit = _field_value(mission, field)
+            x = v * max(1 + sigma * rng.standard_normal(), 1e-3)
+            changes[field] = f"{x!r} {unit}" if unit else x
+        try:
+            designs.append(mission.clone(**changes).design())
+        except Exception:
+            continue  # a draw outside the valid range is dropped
+    vals = evaluate_points(designs, metrics)
+    out = {}
+    for c, v in vals.items():
+        v = v[np.isfinite(v)]
+        out[c] = (np.median(v), np.percentile(v, 5), np.percentile(v, 95)) if v.size else (np.nan,) * 3
+    return out, len(designs)
+
+
+def require(mission, metric: Metric, op: str, target: float, field: str, bounds):
+    """Smallest (or largest, when the metric improves as the field falls) value of ``field`` that
+    meets ``metric op target``, by bracketed root finding (scipy.optimize.brentq) in log space.
+
+    Returns (value, unit, message).
+    """
+    from scipy.optimize import brentq
+    unit = _field_unit(mission, field)
+    lo, hi = bounds
+
+    def value(x):
+        m = mission.clone(**{field: f"{float(x)!r} {unit}" if unit else float(x)})
+        return float(evaluate_points([m.design()], [metric])[metric.columns[0]][0])
+
+    def meets(v):
+        return v <= target if op == "<=" else v >= target
+
+    v_lo, v_hi = value(lo), value(hi)
+    ok_lo, ok_hi = meets(v_lo), meets(v_hi)
+    if not ok_lo and not ok_hi:
+        return None, unit, (f"the target {metric.columns[0]} {op} {target:g} cannot be reached for {field} in "
+                            f"[{lo:g}, {hi:g}] {unit} (values {v_lo:.4g} and {v_hi:.4g})")
+    if ok_lo and ok_hi:
+        return lo, unit, f"the target is met across the whole range; smallest value {lo:g} {unit}"
+    g = lambda lx: np.log(value(float(np.exp(lx)))) - np.log(target)  # noqa: E731
+    root = float(np.exp(brentq(g, np.log(lo), np.log(hi), xtol=1e-10, rtol=1e-9)))
+    which = "smallest" if ok_hi else "largest"
+    return root, unit, f"{which} {field} meeting {metric.columns[0]} {op} {target:g}: {root:.6g} {unit}"
