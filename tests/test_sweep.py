@@ -1,0 +1,200 @@
+"""Trade studies: sweeps, requirements, uncertainty, execution back-ends.
+
+Truth: direct evaluation of each grid point through the engine, the projection-noise scaling
+N^-1/2 (Itano et al. 1993), and root-finding tolerances (scipy.optimize.brentq).
+"""
+
+import numpy as np
+import pytest
+from astropy.table import QTable, Table
+
+from gwclock.cli import main
+from gwclock.engine import envelope
+from gwclock.errors import InputError
+from gwclock.mission import load_mission
+from gwclock.sweep import parse_metric, parse_vary, require
+
+QUIET = """
+name = "quiet"
+[link]
+baseline = "3e10 m"
+transmit_power = "1e4 W"
+transmit_aperture = "1 m"
+receive_aperture = "1 m"
+optical_efficiency = 1.0
+timing_mismatch = "0 s"
+[clock]
+species = "Sr87"
+atom_number = 1e5
+coherence_time = "100 s"
+dead_time = "0 s"
+pulse_error = 0
+pi_pulse_duration = "1 ms"
+[laser]
+linewidth = "0 Hz"
+flicker_floor = 0
+[spacecraft]
+acceleration_noise = "0 m / (s2 Hz(1/2))"
+[sequence]
+comparison = "linear"
+"""
+
+
+@pytest.fixture
+def quiet(tmp_path):
+    p = tmp_path / "quiet.toml"
+    p.write_text(QUIET)
+    return p
+
+
+def run(argv, capsys):
+    code = main([str(a) for a in argv])
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_sweep_equals_direct_evaluation(tmp_path, capsys):
+    p = tmp_path / "s.ecsv"
+    code, _, _ = run(["sweep", "--vary", "clock.atom_number=1e4:1e6:3:log", "--vary", "link.baseline=1e10 m:3e10 m:2",
+                      "--metric", "asd@0.1 Hz", "--metric", "asd@3 mHz", "--table", p], capsys)
+    assert code == 0
+    t = QTable.read(p)
+    assert len(t) == 6 and t["link.baseline"].unit == "m"
+    m, _ = load_mission(None)
+    for row in t:
+        d = m.clone(**{"clock.atom_number": float(row["clock.atom_number"]),
+                       "link.baseline": f"{float(row['link.baseline'].value)!r} m"}).design()
+        direct = np.sqrt(envelope(d, np.array([3e-3, 0.1])).total)
+        assert row["asd@0.1Hz"].value == pytest.approx(direct[1], rel=1e-12)
+        assert row["asd@0.003Hz"].value == pytest.approx(direct[0], rel=1e-12)
+
+
+def test_projection_limited_sweep_follows_inverse_square_root(tmp_path, capsys, quiet):
+    # quantum projection noise: ASD ~ N^-1/2 (Itano et al. 1993, PRA 47, 3554)
+    p = tmp_path / "s.ecsv"
+    assert run(["sweep", quiet, "--vary", "clock.atom_number=1e3:1e7:5:log", "--metric", "asd@0.05 Hz",
+                "--table", p], capsys)[0] == 0
+    t = QTable.read(p)
+    N = np.asarray(t["clock.atom_number"], dtype=float)
+    asd = np.asarray(t["asd@0.05Hz"].value)
+    assert np.allclose(asd * np.sqrt(N), asd[0] * np.sqrt(N[0]), rtol=1e-9)
+
+
+def test_require_inverts_the_sweep(quiet):
+    m, _ = load_mission(quiet)
+    metric = parse_metric("asd@0.05 Hz")
+    value, unit, msg = require(m, metric, "<=", 1e-19, "clock.atom_number", (1e3, 1e10))
+    assert "smallest" in msg
+    d = m.clone(**{"clock.atom_number": value}).design()
+    assert np.sqrt(envelope(d, np.array([0.05])).total[0]) == pytest.approx(1e-19, rel=1e-8)
+    # N^-1/2 law predicts the answer from one evaluation (Itano et al. 1993)
+    a = np.sqrt(envelope(m.design(), np.array([0.05])).total[0])
+    assert value == pytest.approx(1e5 * (a / 1e-19) ** 2, rel=1e-4)  # shot noise at 1e4 W adds ~1e-5
+
+
+def test_require_says_when_the_target_is_out_of_reach(quiet):
+    m, _ = load_mission(quiet)
+    value, _, msg = require(m, parse_metric("asd@0.05 Hz"), "<=", 1e-30, "clock.atom_number", (1e3, 1e6))
+    assert value is None and "cannot be reached" in msg
+
+
+def test_invalid_points_are_reported_and_the_sweep_goes_on(tmp_path, capsys):
+    p = tmp_path / "s.ecsv"
+    assert run(["sweep", "--vary", "clock.pulse_error=0.1:0.9:3", "--metric", "asd@0.1 Hz", "--table", p], capsys)[0] == 0
+    t = Table.read(p)
+    assert list(t["status"][:2]) == ["ok", "ok"]
+    assert "clock.pulse_error" in t["status"][2] and np.isnan(t["asd@0.1Hz"][2])
+
+
+def test_workers_give_the_same_table(tmp_path, capsys):
+    args = ["sweep", "--vary", "clock.atom_number=1e4:1e6:70:log", "--metric", "asd@0.1 Hz", "--metric", "band@1e-17"]
+    assert run(args + ["--table", tmp_path / "a.ecsv"], capsys)[0] == 0
+    assert run(args + ["--table", tmp_path / "b.ecsv", "--workers", "2"], capsys)[0] == 0
+    strip = lambda p: [ln for ln in p.read_text().splitlines() if "created" not in ln]  # noqa: E731
+    assert strip(tmp_path / "a.ecsv") == strip(tmp_path / "b.ecsv")
+
+
+def test_dask_local_cluster_gives_the_same_table(tmp_path, capsys):
+    distributed = pytest.importorskip("distributed")
+    args = ["sweep", "--vary", "clock.atom_number=1e4:1e6:70:log", "--metric", "asd@0.1 Hz"]
+    assert run(args + ["--table", tmp_path / "a.ecsv"], capsys)[0] == 0
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
+                                  dashboard_address=None) as cluster:
+        assert run(args + ["--table", tmp_path / "b.ecsv", "--scheduler", cluster.scheduler_address], capsys)[0] == 0
+    strip = lambda p: [ln for ln in p.read_text().splitlines() if "created" not in ln]  # noqa: E731
+    assert strip(tmp_path / "a.ecsv") == strip(tmp_path / "b.ecsv")
+
+
+def test_failing_sweep_leaves_no_table_and_keeps_the_old_one(tmp_path, capsys, monkeypatch):
+    from gwclock import cli_study
+    p = tmp_path / "s.ecsv"
+    p.write_text("old table")
+    calls = {"n": 0}
+    real = cli_study._chunk_rows
+
+    def failing(*a, **k):
+        calls["n"] += 1
+        if calls["n"] == 2:
+            raise KeyboardInterrupt
+        return real(*a, **k)
+
+    monkeypatch.setattr(cli_study, "_chunk_rows", failing)
+    code, _, err = run(["sweep", "--vary", "clock.atom_number=1e4:1e6:200:log", "--metric", "asd@0.1 Hz",
+                        "--table", p], capsys)
+    assert code == 130
+    assert p.read_text() == "old table"
+    assert [x.name for x in tmp_path.iterdir()] == ["s.ecsv"]
+
+
+def test_seeded_monte_carlo_repeats_exactly(tmp_path, capsys):
+    args = ["sweep", "--vary", "clock.atom_number=1e4:1e5:2:log", "--metric", "asd@0.1 Hz",
+            "--perturb", "clock.coherence_time=0.2", "--perturb", "link.transmit_power=0.3", "--samples", "40", "--seed", "7"]
+    assert run(args + ["--table", tmp_path / "a.ecsv"], capsys)[0] == 0
+    assert run(args + ["--table", tmp_path / "b.ecsv"], capsys)[0] == 0
+    a, b = QTable.read(tmp_path / "a.ecsv"), QTable.read(tmp_path / "b.ecsv")
+    assert np.array_equal(a["asd@0.1Hz"], b["asd@0.1Hz"]) and np.array_equal(a["asd@0.1Hz_p95"], b["asd@0.1Hz_p95"])
+    assert np.all(a["asd@0.1Hz_p05"] <= a["asd@0.1Hz"]) and np.all(a["asd@0.1Hz"] <= a["asd@0.1Hz_p95"])
+    assert np.all(a["asd@0.1Hz_p05"] < a["asd@0.1Hz_p95"])
+
+
+def test_one_and_two_axis_plots(tmp_path, capsys):
+    assert run(["sweep", "--vary", "clock.atom_number=1e4:1e6:4:log", "--metric", "asd@0.1 Hz", "--plot",
+                tmp_path / "a.png"], capsys)[0] == 0
+    assert run(["sweep", "--vary", "clock.atom_number=1e4:1e6:4:log", "--vary", "link.transmit_power=0.1 W:10 W:3:log",
+                "--metric", "asd@0.1 Hz", "--plot", tmp_path / "b.svg", "--quiet"], capsys)[0] == 0
+    assert (tmp_path / "a.png").stat().st_size > 0 and (tmp_path / "b.svg").stat().st_size > 0
+
+
+def test_scan_command(tmp_path, capsys):
+    p = tmp_path / "scan.ecsv"
+    assert run(["scan", "--from", "10 mHz", "--to", "1 Hz", "--steps", 3, "--table", p, "--points", 100], capsys)[0] == 0
+    t = QTable.read(p)
+    cols = [c for c in t.colnames if c.startswith("asd_tune")]
+    assert len(cols) == 3
+    env = np.min(np.stack([t[c].value for c in cols]), axis=0)
+    assert np.allclose(env, t["asd_scan_envelope"].value)
+
+
+@pytest.mark.parametrize("argv, fragment", [
+    (["sweep", "--vary", "clock.atom_numbr=1:2:3", "--metric", "asd@1 Hz"], "no such mission field"),
+    (["sweep", "--vary", "clock.atom_number=1:2", "--metric", "asd@1 Hz"], "FIELD=START:STOP:COUNT"),
+    (["sweep", "--vary", "link.baseline=1e9:1e10:3", "--metric", "asd@1 Hz"], "missing unit"),
+    (["sweep", "--vary", "clock.species=1:2:3", "--metric", "asd@1 Hz"], "only numeric fields"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "speed@1 Hz"], "expected asd@FREQ"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--workers", "0"], "--workers"),
+    (["require", "--target", "asd@1 Hz<1e-19", "--vary", "clock.atom_number"], "--target"),
+    (["scan", "--from", "1 Hz", "--to", "0.1 Hz"], "--from below --to"),
+])
+def test_bad_study_command_lines(tmp_path, monkeypatch, capsys, argv, fragment):
+    monkeypatch.chdir(tmp_path)
+    code, _, err = run(argv, capsys)
+    assert code == 2 and fragment in err and err.count("\n") == 1
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_parse_vary_units():
+    m, _ = load_mission(None)
+    a = parse_vary("link.baseline=1e6 km:1e8 km:3:log", m)
+    assert np.allclose(a.values, [1e9, 1e10, 1e11]) and a.unit == "m"
+    with pytest.raises(InputError):
+        parse_vary("link.baseline=-1 m:1 m:3:log", m)
