@@ -19,7 +19,6 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from scipy import integrate
 
 from . import filters
 
@@ -207,19 +206,20 @@ class Ramsey:
         return (2 * np.pi * design.nu0) ** 2 * out
 
 
-@lru_cache(maxsize=1)
+#: c0 with integral_x^inf sinc^2(u)/u du = ln(1/x) + c0 + O(x^2) for small x (sinc(u) = sin(pi u)/(pi u));
+#: computed by quadrature (checked in the tests).
+RAMSEY_FLICKER_CONSTANT = -0.9150927313110225
+
+
 def _ramsey_flicker_constant():
-    """c0 with integral_x^inf sinc^2(u)/u du = ln(1/x) + c0 + O(x^2) for small x."""
-    a = integrate.quad(lambda u: (np.sinc(u) ** 2 - 1) / u, 0, 1, limit=200)[0]
-    # integral_1^inf sin^2(pi u) / (pi^2 u^3) du, with sin^2 = (1 - cos 2 pi u) / 2 (Fourier weight)
-    oscillating = integrate.quad(lambda u: u**-3.0, 1, np.inf, weight="cos", wvar=2 * np.pi)[0]
-    return a + (0.5 - oscillating) / (2 * np.pi**2)
+    return RAMSEY_FLICKER_CONSTANT
 
 
 class _UnitSequence:
     """Numerical moments of a custom timing for T = 1 and ideal pulses."""
 
     def __init__(self, fractions):
+        from scipy import integrate
         self.fractions = np.asarray(fractions, dtype=float)
         n = self.fractions.size
         self.n = n

@@ -178,3 +178,12 @@ def test_odd_harmonic_sums_against_brute_force():
     # infinite sums: lambda(s) = (1 - 2^-s) zeta(s); lambda(2) = pi^2/8, lambda(4) = pi^4/96
     assert filters.odd_harmonic_sum(2) == pytest.approx(np.pi**2 / 8, rel=1e-14)
     assert filters.odd_harmonic_sum(4) == pytest.approx(np.pi**4 / 96, rel=1e-14)
+
+
+def test_ramsey_flicker_constant_by_quadrature():
+    # integral_x^inf sinc^2(u)/u du = ln(1/x) + c0 for x -> 0, evaluated with scipy
+    from gwclock.sequences import RAMSEY_FLICKER_CONSTANT
+    x = 1e-4
+    head = integrate.quad(lambda u: np.sinc(u) ** 2 / u, x, 1, limit=200)[0]
+    tail = (0.5 - integrate.quad(lambda u: u**-3.0, 1, np.inf, weight="cos", wvar=2 * np.pi)[0]) / (2 * np.pi**2)
+    assert head + tail - np.log(1 / x) == pytest.approx(RAMSEY_FLICKER_CONSTANT, abs=1e-7)

@@ -9,7 +9,7 @@ Recommendation 2 clock frequencies, and astropy's constants.
 
 import numpy as np
 import pytest
-import scipy.constants as sc
+import gwclock.constants as sc
 from astropy import constants as const
 from scipy import integrate
 
