@@ -80,11 +80,6 @@ def main() -> int:
           f"(target: >= 100 x, agreement <= 1e-6)")
     if worst > 1e-6:
         failures.append(f"closed-form sky average disagrees with quad by {worst:.2e}")
-    fe = np.geomspace(1e-5, 100, 400)
-    t_engine = _best_time(lambda: envelope(design, fe), repeat=3)
-    print(f"curve_speedup_with_quad: {(t_engine + t_quad * fe.size / fq.size) / t_engine:.3g} x for a 400-point curve "
-          f"whose sky average is done by quad (target: >= 100 x)")
-
     # (d) CLI wall time relative to importing the libraries it must use
     def wall(cmd):
         return _best_time(lambda: subprocess.run(cmd, check=True, capture_output=True), repeat=5)

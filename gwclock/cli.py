@@ -225,10 +225,21 @@ def build_parser():
     return p
 
 
+def _stop_politely_on_sigterm():
+    """Turn SIGTERM into KeyboardInterrupt so that partial outputs are cleaned up."""
+    import signal
+    import threading
+    if threading.current_thread() is threading.main_thread():
+        def stop(signum, frame):
+            raise KeyboardInterrupt
+        signal.signal(signal.SIGTERM, stop)
+
+
 def main(argv=None) -> int:
     """Run the command line; returns the exit code."""
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
+    _stop_politely_on_sigterm()
     try:
         args = build_parser().parse_args(argv)
         if args.cite:

@@ -254,7 +254,7 @@ def _best(design, kind, f0):
         wish = (1.0 / (2 * f0))[None]
     else:
         return _best_ramsey(design, kind, f0)
-    n, T, valid = kind.snap(design, f0, wish)
+    n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
     parts = evaluate(design, kind, f0, n, T)
     score = np.where(valid, _total(parts), np.inf)
     i = np.argmin(score, axis=0)
@@ -263,11 +263,19 @@ def _best(design, kind, f0):
     return best, ok
 
 
+def _safe(design, kind, f0, n, T, valid):
+    """Replace candidates that are not allowed by harmless ones (they are discarded anyway), so
+    that no absurd interrogation is ever evaluated."""
+    T_ok = np.minimum(T, design.max_interrogation)
+    n_ok = np.where(valid, n, 0.0 if not kind.dd else np.maximum(np.round(2 * f0 * T_ok), 1.0))
+    return n_ok, np.where(valid, T, T_ok), valid
+
+
 def _best_ramsey(design, kind, f0, keep=3):
     """Ramsey: rank many candidates with the cheap aliasing sum (the m = 0 term and the smooth
     tail), then evaluate the best ``keep`` with the full discrete sum."""
     wish = _ramsey_wishes(design, f0)
-    n, T, valid = kind.snap(design, f0, wish)
+    n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
     rough = np.where(valid, _total(evaluate(design, _RAMSEY_ROUGH, f0, n, T)), np.inf)
     order = np.argsort(rough, axis=0)[:keep]
     n, T = np.take_along_axis(n, order, 0), np.take_along_axis(T, order, 0)

@@ -47,7 +47,7 @@ def phase_variance(atom_number, log_contrast, squeezing=1.0, correlated=False, c
         1 for a single clock, 2 for the differential comparison.
     """
     log_contrast = np.asarray(log_contrast, dtype=float)
-    inv_c2 = np.exp(np.minimum(-2.0 * log_contrast, 700.0))
+    inv_c2 = np.exp(np.minimum(-2.0 * log_contrast, 500.0))
     kappa = np.where(correlated, correlation_penalty(np.exp(log_contrast)), 1.0)
     xi2 = np.where(correlated, 1.0, squeezing)
     return clocks * xi2 * kappa * inv_c2 / atom_number

@@ -1,0 +1,151 @@
+"""Robustness: the corners of the parameter space, random mission files, interrupted runs.
+
+Truth: finiteness and positivity everywhere (a PSD is positive), the scaling laws of projection
+noise (Itano et al. 1993) and of the far-field link (P_r ~ 1/L^2), and the rule that bad input
+only ever gives the one-line error.
+"""
+
+import os
+import signal
+import subprocess
+import sys
+import time
+import tomllib
+
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from gwclock.engine import envelope, window
+from gwclock.errors import InputError
+from gwclock.mission import load_mission, mission_from_dict
+
+from .conftest import quiet_design
+
+BASE, _ = load_mission(None)
+FREQ = np.geomspace(1e-7, 1e4, 60)
+
+designs = st.builds(
+    lambda L, N, eps, tau, tpi, dead, P, kind, comp, acc, lw, fl: BASE.design().replace(
+        baseline=L, atom_number=N, pulse_error=eps, coherence_time=tau, pi_pulse_duration=tpi, dead_time=dead,
+        transmit_power=P, kind=kind, comparison=comp, acceleration_noise=acc, linewidth=lw, flicker_floor=fl,
+        max_interrogation=min(3 * tau, 1e6)),
+    L=st.floats(1e6, 1e13), N=st.floats(1, 1e12), eps=st.floats(0, 0.5), tau=st.floats(1e-3 * 10, 1e5),
+    tpi=st.floats(1e-5, 1e-3), dead=st.floats(0, 100), P=st.floats(1e-6, 1e3),
+    kind=st.sampled_from(["ramsey", "echo", "cpmg", "xy8"]), comp=st.sampled_from(["linear", "correlated", "auto"]),
+    acc=st.floats(0, 1e-12), lw=st.floats(0, 10), fl=st.floats(0, 1e-14),
+)
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs)
+def test_envelope_is_finite_and_positive_everywhere(d):
+    # no NaN, no inf, no warning (warnings are errors in this suite) from 1e-7 to 1e4 Hz
+    b = envelope(d, FREQ)
+    for arr in (b.total, *b.psd.values()):
+        assert np.all(np.isfinite(arr))
+        assert np.all(arr >= 0)
+    assert np.all(b.total > 0)
+
+
+@settings(max_examples=30, deadline=None)
+@given(designs, st.floats(1e-3, 10))
+def test_windows_are_finite(d, f0):
+    try:
+        w = window(d, FREQ, tune=f0)
+    except ValueError as exc:  # a tuning that no sequence can reach is refused, not computed
+        assert "can be tuned" in str(exc)
+        return
+    assert np.all(np.isfinite(w.total)) and np.all(w.total > 0)
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.floats(1, 1e8), st.floats(1.5, 100), st.floats(1e-4, 10))
+def test_projection_scaling_law(N, k, f):
+    # quantum projection noise: S_n ~ 1/N (Itano et al. 1993), whatever the frequency
+    a = envelope(quiet_design(atom_number=N), np.array([f])).total[0]
+    b = envelope(quiet_design(atom_number=N * k), np.array([f])).total[0]
+    assert a / b == pytest.approx(k, rel=1e-6)
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.floats(1e6, 1e12), st.floats(1.5, 10))
+def test_received_power_scaling_law(L, k):
+    from gwclock.noises import received_power
+    assert received_power(quiet_design(baseline=L)) / received_power(quiet_design(baseline=k * L)) == pytest.approx(k**2)
+
+
+@settings(max_examples=20, deadline=None)
+@given(st.floats(1e-9, 1e-3))
+def test_many_pulses_stay_finite(tpi):
+    # a tuning near the pulse limit with a long interrogation: tens of thousands of pi pulses
+    d = quiet_design(pi_pulse_duration=tpi, max_interrogation=1e4, coherence_time=1e5, pulse_error=0.5)
+    b = envelope(d, np.array([1.0, 100.0, 1e4]))
+    assert np.all(np.isfinite(b.total)) and np.all(b.total > 0)
+
+
+# fuzzing the mission loader -----------------------------------------------------------------
+keys = st.sampled_from(["name", "link", "clock", "baseline", "transmit_power", "species", "atom_number", "kind",
+                        "sequence", "tune", "laser", "linewidth", "x", "observation", "duration", "pulse_times"])
+scalars = st.one_of(st.integers(-10**6, 10**6), st.floats(allow_nan=True, allow_infinity=True), st.booleans(),
+                    st.text(max_size=12), st.sampled_from(["3e10 m", "1 W", "Sr87", "auto", "5 kg", "nan m", "cpmg"]))
+documents = st.recursive(scalars, lambda inner: st.one_of(st.lists(inner, max_size=3),
+                                                           st.dictionaries(keys, inner, max_size=5)), max_leaves=20)
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.dictionaries(keys, documents, max_size=6))
+def test_random_documents_only_give_the_clean_error(doc):
+    try:
+        mission_from_dict(doc, "fuzz.toml")
+    except InputError as exc:
+        assert str(exc).startswith("fuzz.toml") and "\n" not in str(exc)
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.binary(max_size=200))
+def test_random_bytes_only_give_the_clean_error(tmp_path_factory, data):
+    p = tmp_path_factory.mktemp("fz") / "m.toml"
+    p.write_bytes(data)
+    try:
+        load_mission(p)
+    except InputError as exc:
+        assert "\n" not in str(exc)
+
+
+def test_fuzzed_valid_toml_mutations(tmp_path):
+    # delete or corrupt every line of a shipped mission in turn: only clean errors (or success)
+    with open(os.path.join(os.path.dirname(__file__), "..", "mission_configs", "flagship.toml")) as fh:
+        text = fh.read()
+    lines = text.splitlines()
+    for i in range(len(lines)):
+        for variant in (lines[:i] + lines[i + 1:], lines[:i] + [lines[i].replace("=", "= 1 +")] + lines[i + 1:]):
+            p = tmp_path / "m.toml"
+            p.write_text("\n".join(variant))
+            try:
+                tomllib.loads(p.read_text())
+            except tomllib.TOMLDecodeError:
+                pass
+            try:
+                load_mission(p)
+            except InputError as exc:
+                assert "\n" not in str(exc)
+
+
+# interrupted runs ----------------------------------------------------------------------------
+@pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGKILL])
+def test_killed_run_leaves_the_old_output_intact(tmp_path, sig):
+    out = tmp_path / "table.ecsv"
+    out.write_text("previous results\n")
+    proc = subprocess.Popen([sys.executable, "-m", "gwclock", "sweep", "--vary", "clock.atom_number=1e3:1e7:4000:log",
+                             "--metric", "band@1e-17", "--table", str(out), "--quiet"],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=tmp_path)
+    time.sleep(4.0)
+    assert proc.poll() is None  # still writing
+    proc.send_signal(sig)
+    proc.wait(timeout=60)
+    assert out.read_text() == "previous results\n"
+    leftovers = [p.name for p in tmp_path.iterdir() if p.name != "table.ecsv"]
+    if sig == signal.SIGTERM:
+        assert leftovers == []  # cleaned up on a polite stop
