@@ -221,6 +221,7 @@ def build_parser():
     sp.set_defaults(func=cmd_species)
     from . import cli_science, cli_study
     cli_science.add_commands(sub, mission_arg, grid_args)
+    cli_science.add_output_commands(sub, mission_arg)
     cli_study.add_commands(sub, mission_arg, grid_args)
     return p
 

@@ -413,3 +413,41 @@ def add_commands(sub, mission_arg, grid_args):
     sp.add_argument("--against", nargs="*")
     sp.add_argument("--confusion")
     sp.set_defaults(func=cmd_background)
+
+
+def cmd_plot(args):
+    from pathlib import Path
+
+    from .figspec import load_spec, render_spec, save_spec_figure
+    from .tables import check_output_path
+    spec, digest = load_spec(args.spec)
+    out = args.out or spec.out
+    if not out:
+        out = str(Path(args.spec).with_suffix(".pdf"))
+    elif not args.out:
+        out = str(Path(args.spec).parent / out)
+    check_output_path(out, (".png", ".pdf", ".svg"))
+    fig, artists, prov = render_spec(spec, base_dir=Path(args.spec).parent)
+    save_spec_figure(fig, out, spec, digest, prov)
+    print(f"wrote figure {out} ({len(artists['curves'])} curves)")
+    return 0
+
+
+def cmd_report(args):
+    from .mission import load_mission
+    from .report import build_report
+    mission, digest = load_mission(args.mission)
+    md, html = build_report(mission, digest, args.out)
+    print(f"wrote {md} and {html}")
+    return 0
+
+
+def add_output_commands(sub, mission_arg):
+    sp = sub.add_parser("plot", help="draw a figure from a figure specification (TOML)")
+    sp.add_argument("spec", help="figure specification file")
+    sp.add_argument("--out", help="output file (.pdf, .svg or .png); default from the spec")
+    sp.set_defaults(func=cmd_plot)
+    sp = sub.add_parser("report", help="concept-document report (Markdown and self-contained HTML)")
+    mission_arg(sp)
+    sp.add_argument("--out", required=True, help="output folder (created if its parent exists)")
+    sp.set_defaults(func=cmd_report)

@@ -303,24 +303,38 @@ class Design:
 # loading -------------------------------------------------------------------------------------
 
 def _dotted(loc) -> str:
-    return ".".join(str(p) for p in loc if not (isinstance(p, str) and p.startswith("function-")))
+    out = ""
+    for p in loc:
+        if isinstance(p, int):
+            out += f"[{p}]"
+        elif not (isinstance(p, str) and p.startswith("function-")):
+            out += ("." if out else "") + str(p)
+    return out
 
 
-def _fields_at(loc) -> list[str]:
-    model = Mission
+def _fields_at(loc, root=None) -> list[str]:
+    from typing import get_args
+    model = root or Mission
     for part in loc[:-1]:
+        if isinstance(part, int):
+            continue
         field = model.model_fields.get(str(part))
         if field is None:
             return []
-        ann = field.annotation
-        if isinstance(ann, type) and issubclass(ann, BaseModel):
-            model = ann
-        else:
+        candidates = [field.annotation, *get_args(field.annotation)]
+        models = [a for a in candidates if isinstance(a, type) and issubclass(a, BaseModel)]
+        if not models:
             return []
+        model = models[0]
     return list(model.model_fields)
 
 
-def _error_from_validation(exc: ValidationError, source: str) -> InputError:
+def _error_from_validation_for(exc: ValidationError, source: str, root) -> InputError:
+    """One-line error for any gwclock schema (missions, figure specs)."""
+    return _error_from_validation(exc, source, root)
+
+
+def _error_from_validation(exc: ValidationError, source: str, root=None) -> InputError:
     errors = exc.errors(include_url=False)
     # a misspelt key also shows as a missing field: report the misspelling first
     errors.sort(key=lambda e: e["type"] != "extra_forbidden")
@@ -332,7 +346,7 @@ def _error_from_validation(exc: ValidationError, source: str) -> InputError:
     kind = err["type"]
     value = err.get("input")
     if kind == "extra_forbidden":
-        close = difflib.get_close_matches(str(loc[-1]), _fields_at(loc), n=1)
+        close = difflib.get_close_matches(str(loc[-1]), _fields_at(loc, root), n=1)
         hint = f"; did you mean {close[0]!r}?" if close else ""
         return InputError(f"unknown key{hint}", source=source, field=field)
     if kind == "missing":

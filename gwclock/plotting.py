@@ -91,6 +91,27 @@ SERIES_STYLES = [
 ]
 
 
+# Separate families so that missions, reference detectors and sources never share a look.
+MISSION_STYLES = [
+    dict(color="black", linestyle="-", lw=2.2),
+    dict(color="#0072B2", linestyle="-", lw=2.0),
+    dict(color="#D55E00", linestyle="-", lw=2.0),
+    dict(color="#009E73", linestyle="-", lw=2.0),
+]
+REFERENCE_STYLES = [
+    dict(color="#56B4E9", linestyle=(0, (6, 2)), lw=1.4),
+    dict(color="#CC79A7", linestyle=(0, (2, 1.5)), lw=1.4),
+    dict(color="#E69F00", linestyle=(0, (6, 2, 1, 2)), lw=1.4),
+    dict(color="#7F7F7F", linestyle=(0, (1, 1)), lw=1.6),
+    dict(color="#56B4E9", linestyle=(0, (8, 2, 1, 2, 1, 2)), lw=1.4),
+]
+SOURCE_STYLES = [
+    dict(color="#444444", linestyle="-", lw=0.9),
+    dict(color="#8C6D31", linestyle="-", lw=0.9),
+    dict(color="#444444", linestyle=(0, (3, 1)), lw=0.9),
+]
+
+
 def plot_lines(series, ax=None, xlabel="frequency [Hz]", ylabel="", title=None, logy=True, marks=None):
     """Overlay labelled curves on log axes.
 

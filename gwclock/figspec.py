@@ -1,0 +1,290 @@
+"""Figure specifications: one TOML file describes a print-ready comparison figure.
+
+A spec can overlay any number of missions (tuned envelopes or fixed windows), reference
+detectors, inspiral tracks and monochromatic sources, in amplitude-spectral-density,
+characteristic-strain or Omega_gw form, with annotations. A reviewer regenerates the figure from
+the spec alone (`gwclock plot SPEC.toml`). Conventions (sky-averaged, PHYSICS.md sec. 0):
+
+* ``asd``: sqrt(S_n); an inspiral as 2 sqrt(f) |h~| = h_c / sqrt(f); a monochromatic source as
+  h0 sqrt(T_obs) (its SNR is the ratio to the curve);
+* ``hc``: h_n = sqrt(f S_n); an inspiral as h_c = 2 f |h~|; a monochromatic source as
+  h0 sqrt(f T_obs);
+* ``omega``: Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) (sources are not drawn in this form).
+"""
+
+from __future__ import annotations
+
+import hashlib
+from pathlib import Path
+from typing import Annotated, Any, Literal
+
+import numpy as np
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, model_validator
+
+from .errors import InputError
+from .quantities import parse_quantity
+
+__all__ = ["FigureSpec", "load_spec", "render_spec", "SIZES"]
+
+SIZES = {"one-column": (3.4, 2.8), "two-column": (7.0, 4.3)}
+
+
+def _hz(value: Any) -> float:
+    x = float(parse_quantity(value, "Hz", allow_plain=True).value)
+    if x <= 0:
+        raise ValueError("expected a positive frequency")
+    return x
+
+
+def _seconds(value: Any) -> float:
+    x = float(parse_quantity(value, "s").value)
+    if x <= 0:
+        raise ValueError("expected a positive time")
+    return x
+
+
+def _metres(value: Any) -> float:
+    x = float(parse_quantity(value, "m").value)
+    if x <= 0:
+        raise ValueError("expected a positive distance")
+    return x
+
+
+Hz = Annotated[float, BeforeValidator(_hz)]
+Seconds = Annotated[float, BeforeValidator(_seconds)]
+Metres = Annotated[float, BeforeValidator(_metres)]
+
+
+class _Item(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class MissionItem(_Item):
+    file: str = Field(description="mission file, relative to the spec (or 'default')")
+    mode: Literal["envelope", "window"] = "envelope"
+    tune: Hz | None = Field(None, description="tuning of a window")
+    label: str | None = None
+    noises: bool = Field(False, description="draw the noise budget too")
+    band: float | None = Field(None, gt=0, description="annotate where the ASD is below this level")
+
+    @model_validator(mode="after")
+    def _window_needs_tune(self):
+        if self.mode == "window" and self.tune is None:
+            raise ValueError("a window needs 'tune'")
+        return self
+
+
+class ReferenceItem(_Item):
+    name: str
+    confusion: float | None = Field(None, description="LISA galactic confusion, years")
+    label: str | None = None
+
+
+class TrackItem(_Item):
+    mass1: float = Field(gt=0)
+    mass2: float = Field(gt=0)
+    distance: Metres | None = None
+    redshift: float | None = Field(None, ge=0)
+    label: str | None = None
+    marks: bool = True
+
+    @model_validator(mode="after")
+    def _one_distance(self):
+        if (self.distance is None) == (self.redshift is None):
+            raise ValueError("give exactly one of distance and redshift")
+        return self
+
+
+class PointItem(_Item):
+    frequency: Hz
+    h0: float = Field(gt=0)
+    label: str | None = None
+
+
+class Axes(_Item):
+    fmin: Hz = 1e-5
+    fmax: Hz = 1e3
+    ymin: float | None = Field(None, gt=0)
+    ymax: float | None = Field(None, gt=0)
+    points: int = Field(600, ge=10, le=100_000)
+
+    @model_validator(mode="after")
+    def _ordered(self):
+        if self.fmin >= self.fmax:
+            raise ValueError("fmin must be below fmax")
+        if self.ymin is not None and self.ymax is not None and self.ymin >= self.ymax:
+            raise ValueError("ymin must be below ymax")
+        return self
+
+
+class FigureSpec(_Item):
+    title: str = ""
+    form: Literal["asd", "hc", "omega"] = "asd"
+    size: Literal["one-column", "two-column"] = "two-column"
+    dpi: int = Field(300, ge=50, le=1200)
+    out: str | None = None
+    observation: Seconds = Field(3.15576e7, description="observing time for monochromatic sources")
+    axes: Axes = Axes()
+    mission: list[MissionItem] = []
+    reference: list[ReferenceItem] = []
+    track: list[TrackItem] = []
+    point: list[PointItem] = []
+
+    @model_validator(mode="after")
+    def _something(self):
+        if not (self.mission or self.reference or self.track or self.point):
+            raise ValueError("the figure is empty: add [[mission]], [[reference]], [[track]] or [[point]] tables")
+        return self
+
+
+def load_spec(path):
+    """Read and validate a figure spec; returns (spec, sha256 of the file)."""
+    from .mission import _error_from_validation_for, read_toml
+    data, raw = read_toml(path, "figure spec")
+    try:
+        spec = FigureSpec.model_validate(data)
+    except ValidationError as exc:
+        raise _error_from_validation_for(exc, str(path), FigureSpec) from None
+    return spec, hashlib.sha256(raw).hexdigest()[:16]
+
+
+def _transform(form, f, s_n, h0):
+    if form == "asd":
+        return np.sqrt(s_n)
+    if form == "hc":
+        return np.sqrt(f * s_n)
+    return 4 * np.pi**2 * f**3 * s_n / (3 * h0**2)
+
+
+YLABELS = {"asd": r"strain ASD [Hz$^{-1/2}$]", "hc": "characteristic strain", "omega": r"$\Omega_{\rm gw}$ sensitivity"}
+
+
+def render_spec(spec: FigureSpec, base_dir=".", ax=None):
+    """Draw a spec; returns (figure, artists dict, provenance dict)."""
+    from matplotlib.figure import Figure
+
+    from . import __version__
+    from .background import hubble_constant
+    from .engine import envelope, window
+    from .mission import load_mission
+    from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES
+    from .references import get_reference
+    from .sources import MARKS, Inspiral
+
+    if ax is None:
+        fig = Figure(figsize=SIZES[spec.size], layout="constrained")
+        ax = fig.add_subplot()
+    else:
+        fig = ax.figure
+    small = spec.size == "one-column"
+    f = np.geomspace(spec.axes.fmin, spec.axes.fmax, spec.axes.points)
+    h0 = hubble_constant() if spec.form == "omega" else None
+    artists = {"curves": [], "marks": [], "annotations": []}
+    provenance = {"tool": f"gwclock {__version__}", "missions": []}
+    styles = {"mission": iter(MISSION_STYLES * 10), "reference": iter(REFERENCE_STYLES * 10),
+              "source": iter(SOURCE_STYLES * 10)}
+    lw_scale = 0.75 if small else 1.0
+
+    def line(x, y, label, family="mission", **extra):
+        st = dict(next(styles[family]))
+        st["lw"] = st.get("lw", 1.5) * lw_scale
+        st.update(extra)
+        y = np.where(np.isfinite(y) & (y > 0), y, np.nan)
+        (ln,) = ax.plot(x, y, label=label, **st)
+        artists["curves"].append(ln)
+        return ln
+
+    for item in spec.mission:
+        path = None if item.file == "default" else (Path(base_dir) / item.file)
+        mission, digest = load_mission(path)
+        provenance["missions"].append(f"{mission.name} sha256 {digest}")
+        d = mission.design()
+        if item.mode == "envelope":
+            b = envelope(d, f)
+            label = item.label or f"{mission.name} (tuned envelope)"
+        else:
+            try:
+                b = window(d, f, tune=item.tune)
+            except ValueError as exc:
+                raise InputError(str(exc), source=str(path or "default"), field="tune") from None
+            label = item.label or f"{mission.name} (tuned to {item.tune:.3g} Hz)"
+        ln = line(f, _transform(spec.form, f, b.total, h0), label)
+        if item.noises:
+            from .plotting import NOISE_STYLE
+            for name, nst in NOISE_STYLE.items():
+                y = _transform(spec.form, f, b.psd[name], h0)
+                (c,) = ax.plot(f, np.where(y > 0, y, np.nan), color=nst["color"], linestyle=nst["linestyle"],
+                               lw=0.9 * lw_scale, label=f"  {nst['label']}")
+                artists["curves"].append(c)
+        if item.mode == "window":
+            artists["annotations"].append(ax.axvline(item.tune, color=ln.get_color(), lw=0.6, linestyle=":"))
+        if item.band and spec.form == "asd":
+            below = np.sqrt(b.total) <= item.band
+            if below.any():
+                lo, hi = f[below][0], f[below][-1]
+                for x in (lo, hi):
+                    artists["annotations"].append(ax.axvline(x, color=ln.get_color(), lw=0.6, linestyle="--"))
+                artists["annotations"].append(ax.annotate(
+                    f"ASD < {item.band:.0e}: {lo:.2g}-{hi:.2g} Hz", (np.sqrt(lo * hi), item.band),
+                    fontsize="xx-small" if small else "x-small", ha="center", va="bottom", color=ln.get_color()))
+    for item in spec.reference:
+        try:
+            ref = get_reference(item.name)
+        except KeyError as exc:
+            raise InputError(str(exc.args[0]), source="figure spec", field="reference.name", value=item.name) from None
+        opts = {"confusion_years": item.confusion} if item.confusion and ref.key == "lisa" else {}
+        fr = f[(f >= ref.band[0]) & (f <= ref.band[1])]
+        if fr.size < 2:
+            continue
+        line(fr, _transform(spec.form, fr, ref.sky_averaged(fr, **opts), h0), item.label or ref.label, "reference")
+    if spec.form != "omega":
+        for item in spec.track:
+            src = Inspiral.from_masses(item.mass1, item.mass2, distance=item.distance, redshift=item.redshift)
+            top = min(spec.axes.fmax, src.isco_frequency)
+            if top <= spec.axes.fmin:
+                continue
+            ft = np.geomspace(spec.axes.fmin, top, 300)
+            hc = src.characteristic_strain(ft)
+            y = hc if spec.form == "hc" else hc / np.sqrt(ft)
+            ln = line(ft, y, item.label or f"{item.mass1:g}+{item.mass2:g} Msun", "source")
+            if item.marks:
+                for label, before in MARKS.items():
+                    fm = float(src.frequency_at(before))
+                    if ft[0] <= fm <= ft[-1]:
+                        ym = float(src.characteristic_strain(fm)) / (1 if spec.form == "hc" else np.sqrt(fm))
+                        artists["marks"].append(ax.plot([fm], [ym], marker="o", ms=3, color=ln.get_color())[0])
+                        artists["annotations"].append(ax.annotate(label, (fm, ym), xytext=(3, 3),
+                                                                  textcoords="offset points", fontsize="xx-small"))
+        for item in spec.point:
+            y = item.h0 * np.sqrt(spec.observation) * (np.sqrt(item.frequency) if spec.form == "hc" else 1.0)
+            pt = ax.plot([item.frequency], [y], marker="*", ms=7 * lw_scale, linestyle="none", color="black",
+                         label=item.label or f"source at {item.frequency:.3g} Hz")[0]
+            artists["marks"].append(pt)
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_xlim(spec.axes.fmin, spec.axes.fmax)
+    if spec.axes.ymin or spec.axes.ymax:
+        ax.set_ylim(spec.axes.ymin, spec.axes.ymax)
+    ax.set_xlabel("frequency [Hz]")
+    ax.set_ylabel(YLABELS[spec.form])
+    ax.grid(True, which="major", alpha=0.3)
+    if spec.title:
+        ax.set_title(spec.title, fontsize="medium" if small else "large")
+    artists["legend"] = ax.legend(loc="best", fontsize="xx-small" if small else "x-small", framealpha=0.85)
+    caption = {"asd": "sky-averaged; sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)",
+               "hc": "sky-averaged; h_n = sqrt(f S_n); monochromatic h_c = h0 sqrt(f T)",
+               "omega": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0"}[spec.form]
+    artists["caption"] = ax.text(0.0, -0.02, caption, transform=fig.transFigure, fontsize=5 if small else 6,
+                                 color="0.35", va="bottom")
+    return fig, artists, provenance
+
+
+def save_spec_figure(fig, path, spec, digest, provenance):
+    """Save with embedded fonts and provenance metadata, atomically."""
+    import matplotlib as mpl
+
+    from .plotting import save_figure
+    meta = {"Title": spec.title or "gwclock figure", "Creator": provenance["tool"],
+            "Subject": f"spec sha256 {digest}; " + "; ".join(provenance["missions"])}
+    with mpl.rc_context({"pdf.fonttype": 42, "ps.fonttype": 42, "svg.fonttype": "path"}):
+        return save_figure(fig, path, dpi=spec.dpi, metadata=meta)
