@@ -23,7 +23,7 @@ test: $(STAMP)
 	$(BIN)/python -m pytest
 
 plots: $(STAMP)
-	$(BIN)/python -m gwclock.figures plots
+	for spec in plots/*.toml; do $(BIN)/gwclock plot $$spec || exit 1; done
 
 bench: $(STAMP)
 	$(BIN)/python -m gwclock.bench

@@ -1,0 +1,164 @@
+"""Figures from specifications and concept-document reports.
+
+Truth: the specification rules of the README (one curve per item, units on the axes, fonts
+embedded, provenance in the metadata) and the HTML standard (a self-contained page references
+no external resource); figure content is checked through the returned artists, not pixels.
+"""
+
+import re
+import shutil
+import subprocess
+import zlib
+
+import pytest
+
+from gwclock.cli import main
+from gwclock.errors import InputError
+from gwclock.figspec import load_spec, render_spec
+
+from .conftest import MISSIONS, ROOT
+
+SPEC = """
+title = "test figure"
+form = "{form}"
+size = "one-column"
+dpi = 120
+
+[axes]
+fmin = "1e-4 Hz"
+fmax = "100 Hz"
+
+[[mission]]
+file = "default"
+
+[[mission]]
+file = "{mission}"
+mode = "window"
+tune = "0.1 Hz"
+
+[[reference]]
+name = "lisa"
+confusion = 1
+
+[[reference]]
+name = "aligo"
+
+[[track]]
+mass1 = 1e4
+mass2 = 1e4
+redshift = 1
+
+[[point]]
+frequency = "3 mHz"
+h0 = 1e-22
+"""
+
+
+def spec_file(tmp_path, form="asd"):
+    p = tmp_path / "fig.toml"
+    p.write_text(SPEC.format(form=form, mission=(ROOT / "mission_configs" / "pathfinder.toml").as_posix()))
+    return p
+
+
+@pytest.mark.parametrize("form, curves", [("asd", 5), ("hc", 5), ("omega", 4)])
+def test_spec_artists(tmp_path, form, curves):
+    spec, digest = load_spec(spec_file(tmp_path, form))
+    fig, artists, prov = render_spec(spec, base_dir=tmp_path)
+    ax = fig.axes[0]
+    assert ax.get_xscale() == "log" and ax.get_yscale() == "log"
+    assert ax.get_xlabel() == "frequency [Hz]"
+    if form == "asd":
+        assert "Hz$^{-1/2}$" in ax.get_ylabel()
+    assert len(artists["curves"]) == curves  # two missions, two references, one track (not in Omega form)
+    labels = [t.get_text() for t in artists["legend"].get_texts()]
+    assert len(labels) == curves + (0 if form == "omega" else 1)  # + the monochromatic source
+    assert any("tuned envelope" in s for s in labels) and any("tuned to 0.1 Hz" in s for s in labels)
+    if form != "omega":
+        assert len(artists["marks"]) >= 3  # time-before-merger marks and the point source
+    assert len(prov["missions"]) == 2 and len(digest) == 16
+
+
+def test_every_output_type_with_provenance(tmp_path, capsys):
+    p = spec_file(tmp_path)
+    for suffix in (".png", ".pdf", ".svg"):
+        out = tmp_path / f"f{suffix}"
+        assert main(["plot", str(p), "--out", str(out)]) == 0
+        data = out.read_bytes()
+        assert len(data) > 1000
+        if suffix == ".pdf":
+            assert b"/FontFile2" in data  # TrueType fonts embedded (fonttype 42)
+            assert b"gwclock" in data
+        elif suffix == ".svg":
+            text = data.decode()
+            assert "<text" not in text  # text drawn as paths: no font needed
+            assert "spec sha256" in text
+        else:
+            assert b"spec sha256" in data or b"spec sha256" in zlib.decompress(data[data.find(b"zTXt") + 4:], -15)
+
+
+def test_default_output_name_from_the_spec(tmp_path, capsys):
+    p = spec_file(tmp_path)
+    assert main(["plot", str(p)]) == 0
+    assert (tmp_path / "fig.pdf").exists()
+
+
+@pytest.mark.parametrize("change, fragment", [
+    (("form = \"asd\"", "form = \"power\""), "form"),
+    (("title", "titel"), "titel: unknown key; did you mean 'title'?"),
+    (("tune = \"0.1 Hz\"", ""), "a window needs 'tune'"),
+    (("name = \"aligo\"", "name = \"virgo\""), "unknown reference"),
+    (("fmin = \"1e-4 Hz\"", "fmin = \"1e3 Hz\""), "fmin must be below fmax"),
+    (("redshift = 1", "redshift = 1\ndistance = \"1 Gpc\""), "exactly one of distance and redshift"),
+    (("h0 = 1e-22", "h0 = -1"), "point[0].h0"),
+])
+def test_bad_specs(tmp_path, capsys, change, fragment):
+    p = spec_file(tmp_path)
+    p.write_text(p.read_text().replace(*change))
+    code = main(["plot", str(p), "--out", str(tmp_path / "x.png")])
+    err = capsys.readouterr().err
+    assert code == 2 and fragment in err and err.count("\n") == 1
+    assert not (tmp_path / "x.png").exists()
+
+
+def test_empty_spec_is_refused(tmp_path):
+    p = tmp_path / "e.toml"
+    p.write_text('title = "nothing"\n')
+    with pytest.raises(InputError, match="the figure is empty"):
+        load_spec(p)
+
+
+@pytest.mark.parametrize("path", [None, *MISSIONS], ids=lambda p: "default" if p is None else p.stem)
+def test_report_for_every_mission_is_self_contained(tmp_path, capsys, path):
+    out = tmp_path / "rep"
+    argv = ["report", "--out", str(out)] + ([str(path)] if path else [])
+    assert main(argv) == 0
+    html = (out / "report.html").read_text()
+    md = (out / "report.md").read_text()
+    for name in ("budget.png", "references.png", "scan.png"):
+        assert (out / name).exists() and f"({name})" in md
+    refs = re.findall(r"""(?:src|href)\s*=\s*["']([^"']*)["']""", html)
+    assert refs and all(r.startswith("data:") for r in refs)  # nothing fetched from anywhere
+    assert "http://" not in html and "https://" not in html
+    assert "Concept-study estimate" in html and "Best strain ASD" in html
+    assert html.count("<img") == 3
+
+
+def test_report_opens_in_headless_chromium(tmp_path):
+    browser = shutil.which("chromium") or shutil.which("chromium-browser")
+    if browser is None:
+        pytest.skip("chromium is not installed (.ci/run installs Debian's chromium)")
+    out = tmp_path / "rep"
+    assert main(["report", "--out", str(out)]) == 0
+    proc = subprocess.run(
+        [browser, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync",
+         f"--user-data-dir={tmp_path / 'profile'}", "--enable-logging=stderr", "--v=0", "--dump-dom",
+         (out / "report.html").as_uri()], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0
+    assert ":CONSOLE" not in proc.stderr  # no console message of any level
+    assert "<h1>" in proc.stdout and proc.stdout.count("<img") == 3
+
+
+def test_report_refuses_a_missing_parent(tmp_path, capsys):
+    assert main(["report", "--out", str(tmp_path / "no" / "such")]) == 2
+    assert "parent folder does not exist" in capsys.readouterr().err
