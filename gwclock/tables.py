@@ -140,6 +140,11 @@ def write_table(table, path) -> Path:
             if out[c].dtype.kind == "f":
                 out[c].info.format = ".10g"
     kwargs = {"comment": "# "} if fmt == "ascii.csv" else {}
+    from .ecsv import supported, write_ecsv
     with atomic_path(p) as tmp:
-        out.write(tmp, format=fmt, overwrite=True, **kwargs)
+        if fmt == "ascii.ecsv" and supported(out):
+            with open(tmp, "w") as fh:
+                write_ecsv(out, fh)
+        else:
+            out.write(tmp, format=fmt, overwrite=True, **kwargs)
     return p
