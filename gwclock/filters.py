@@ -246,7 +246,14 @@ def periodic_noise_integral(alpha, T, f0, cutoff=np.inf, low=0.0):
     ndarray
         In s^2 Hz^(alpha+1).
     """
-    T = np.asarray(T, dtype=float)
+    slope, edge = periodic_noise_coefficients(alpha, f0, cutoff, low)
+    return slope * np.asarray(T, dtype=float) + edge
+
+
+def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
+    """(slope, edge) with ``integral f^alpha |G|^2 df = slope * T + edge`` (see
+    :func:`periodic_noise_integral`): the odd-harmonic lobes scale with T, the pi/2-pulse plateau
+    does not."""
     f0 = np.asarray(f0, dtype=float)
     cutoff = np.asarray(cutoff, dtype=float)
     low = np.asarray(low, dtype=float)
@@ -256,9 +263,11 @@ def periodic_noise_integral(alpha, T, f0, cutoff=np.inf, low=0.0):
         count = np.floor((cutoff / f0 + 1) / 2)
     first = np.where(low > 0, np.ceil((low / f0 - 1) / 2 - 1e-12), 0.0)
     first = np.maximum(first, 0.0)
-    total = (4 * T / np.pi**2) * f0**alpha * odd_harmonic_sum(2 - alpha, count, first)
+    slope = (4 / np.pi**2) * f0**alpha * odd_harmonic_sum(2 - alpha, count, first)
     if alpha == 2:
-        total = total + np.maximum(cutoff - low, 0.0) / (2 * np.pi**2)
+        edge = np.maximum(cutoff - low, 0.0) / (2 * np.pi**2) + 0 * f0
     elif alpha == 1:
-        total = total + np.log(np.maximum(cutoff / np.maximum(low, f0), 1.0)) / (2 * np.pi**2)
-    return total
+        edge = np.log(np.maximum(cutoff / np.maximum(low, f0), 1.0)) / (2 * np.pi**2)
+    else:
+        edge = np.zeros(np.shape(slope))
+    return slope, edge

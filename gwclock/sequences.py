@@ -100,10 +100,9 @@ class Periodic:
         return filters.periodic_filter_modulus(f, T, n, design.pi_pulse_duration)
 
     def noise_integral(self, design, term, f0, n, T):
-        # linear in T: evaluate the harmonic sums on f0's own shape, then scale by T
-        at0 = filters.periodic_noise_integral(term.alpha, 0.0, f0, term.cutoff, term.low)
-        at1 = filters.periodic_noise_integral(term.alpha, 1.0, f0, term.cutoff, term.low)
-        return term.level * (at0 + (at1 - at0) * np.asarray(T, dtype=float))
+        # linear in T: evaluate the harmonic sums once on f0's own shape, then scale by T
+        slope, edge = filters.periodic_noise_coefficients(term.alpha, f0, term.cutoff, term.low)
+        return term.level * (edge + slope * np.asarray(T, dtype=float))
 
     def aliased(self, design, terms, f0, n, T, Tc):
         """sum_m S(|f0 + m/Tc|) |G|^2 in its smooth-noise form 2 Tc integral S |G|^2 df."""
