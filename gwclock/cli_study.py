@@ -301,8 +301,13 @@ def cmd_scan(args):
 
 
 def draw_scan(ax, f, tunings, S, env):
-    """Windows of a tuning scan (thin, graded) and their envelope; returns the artists."""
+    """Windows of a tuning scan (thin, graded) and their envelope; returns the artists.
+
+    ``ax`` may be None (a new figure is made)."""
     import matplotlib as mpl
+
+    from .plotting import _new_axes
+    _, ax = _new_axes(ax)
     cmap = mpl.colormaps["viridis"]
     lines = []
     for k in range(len(tunings)):
