@@ -372,6 +372,8 @@ def mission_from_dict(data: dict, source: str = "<mission>") -> Mission:
 def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
     """Read and parse a TOML file; every failure is an :class:`InputError`."""
     p = Path(path)
+    from .tables import register_input
+    register_input(p)
     try:
         raw = p.read_bytes()
     except FileNotFoundError:

@@ -164,6 +164,8 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
     from .errors import InputError
 
     p = Path(path)
+    from .tables import register_input
+    register_input(p)
     try:
         if p.suffix.lower() == ".ecsv":
             t = Table.read(p, format="ascii.ecsv")
@@ -177,6 +179,10 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
         raise
     except Exception as exc:  # astropy raises many kinds for malformed tables
         raise InputError(f"cannot read the curve ({' '.join(str(exc).split())[:160]})", source=str(p)) from None
+    for line in t.meta.pop("comments", []) or []:  # CSV: "# key: value" comment lines
+        key, sep, value = str(line).partition(":")
+        if sep:
+            t.meta.setdefault(key.strip(), value.strip())
     if "frequency" not in t.colnames:
         raise InputError("missing column 'frequency'", source=str(p), field="frequency")
     if "asd" in t.colnames:

@@ -180,6 +180,8 @@ def load_sources(path):
     from .quantities import parse_quantity
 
     p = Path(path)
+    from .tables import register_input
+    register_input(p)
     if p.suffix.lower() == ".toml":
         from .mission import read_toml
         data, _ = read_toml(p, "source file")

@@ -82,9 +82,27 @@ def provenance(mission_name: str, digest: str) -> dict:
     }
 
 
+_INPUTS: set = set()
+
+
+def register_input(path) -> None:
+    """Remember a file the user gave as input, so that no output can ever overwrite it."""
+    try:
+        _INPUTS.add(Path(path).resolve())
+    except OSError:
+        pass
+
+
 def check_output_path(path, kinds) -> Path:
-    """Refuse an output path whose folder is missing or whose suffix is not one of ``kinds``."""
+    """Refuse an output path whose folder is missing, whose suffix is not one of ``kinds``, or
+    that names one of the run's input files."""
     p = Path(path)
+    try:
+        if p.resolve() in _INPUTS:
+            raise InputError("is one of this run's input files; choose another output name",
+                             source="command line", field=str(p))
+    except OSError:
+        pass
     if p.suffix.lower() not in kinds:
         raise InputError(f"unsupported file type {p.suffix or '(none)'!r}; expected one of {', '.join(kinds)}",
                          source="command line", field=str(p))

@@ -174,3 +174,12 @@ def test_bad_science_command_lines(tmp_path, monkeypatch, capsys, argv, fragment
     monkeypatch.chdir(tmp_path)
     code, out, err = run(argv, capsys)
     assert code == 2 and fragment in err and err.count("\n") == 1
+
+
+def test_an_input_file_is_never_overwritten(tmp_path, capsys):
+    curve = tmp_path / "mine.csv"
+    curve.write_text("# convention: sky-averaged\nfrequency,asd\n1,1e-20\n10,1e-21\n")
+    before = curve.read_text()
+    code, _, err = run(["reference", curve, "--fmin", "1", "--fmax", "10", "--table", curve], capsys)
+    assert code == 2 and "input files" in err
+    assert curve.read_text() == before

@@ -153,11 +153,14 @@ class TestReferences:
             get_reference("virgo")
 
     def test_user_curve(self, tmp_path):
+        bare = tmp_path / "bare.csv"
+        bare.write_text("frequency,asd\n1,1e-23\n10,1e-24\n100,1e-24\n")
+        with pytest.raises(InputError, match="declare the convention"):
+            user_curve(bare)
         p = tmp_path / "c.csv"
         p.write_text("# convention: optimal orientation\nfrequency,asd\n1,1e-23\n10,1e-24\n100,1e-24\n")
-        with pytest.raises(InputError, match="declare the convention"):
-            user_curve(p)
-        r = user_curve(p, convention="optimal")
+        assert user_curve(p).convention == "optimal orientation"
+        r = user_curve(bare, convention="optimal")
         assert r.native(10.0) == pytest.approx(1e-48)
         assert r.sky_averaged(np.sqrt(10.0)) == pytest.approx(2.5 * 10 ** (-47), rel=1e-9)  # log-log interpolation
         with pytest.raises(ValueError, match="covers"):
