@@ -338,31 +338,12 @@ def _best_with_fallback(design, f0):
     best, ok = _best(design, kind, f0)
     if isinstance(kind, Ramsey):
         return best, ok
-    # Ramsey can only win where its cost without the (positive) red-noise terms is lower
-    look = ~ok | (_ramsey_floor(design, f0) < _total(best))
-    if not np.any(look):
-        return best, ok
-    sub = design.take(look, f0.size)
-    rb, rok = _best(sub, _RAMSEY, f0[look])
-    idx = np.flatnonzero(look)
-    take = rok & (~ok[look] | (_total(rb) < _total({k: v[look] for k, v in best.items()})))
+    rb, rok = _best(design, _RAMSEY, f0)
+    take = rok & (~ok | (_total(rb) < _total(best)))
     if np.any(take):
-        best = {k: np.array(v) for k, v in best.items()}
-        for k in best:
-            best[k][idx[take]] = rb[k][take]
-        ok = ok.copy()
-        ok[idx[take]] = True
+        best = {k: np.where(take, rb[k], best[k]) for k in best}
+        ok = ok | take
     return best, ok
-
-
-def _ramsey_floor(design, f0):
-    """A lower bound of the best Ramsey S_y,eq at f0: projection and the white and rising terms
-    only, minimised over the Ramsey candidates (the red-noise aliasing sum is left out)."""
-    no_red = design.replace(acceleration_noise=0.0, flicker_floor=0.0 * design.flicker_floor)
-    wish = _ramsey_wishes(design, f0)
-    n, T, valid = _RAMSEY.snap(design, f0, wish)
-    parts = evaluate(no_red, _RAMSEY, f0, n, T)
-    return np.min(np.where(valid, _total(parts), np.inf), axis=0)
 
 
 def window_psd(design: Design, tunings, frequency):
