@@ -26,7 +26,9 @@ from .quantities import parse_quantity
 
 __all__ = ["FigureSpec", "load_spec", "render_spec", "SIZES"]
 
-SIZES = {"one-column": (3.4, 2.8), "two-column": (7.0, 4.3)}
+SIZES = {"one-column": (3.4, 3.9), "two-column": (7.0, 4.3)}
+FONTS = {"one-column": {"font.size": 6.5, "axes.titlesize": 7, "legend.fontsize": 5},
+         "two-column": {"font.size": 9, "axes.titlesize": 11, "legend.fontsize": 7}}
 
 
 def _hz(value: Any) -> float:
@@ -161,6 +163,12 @@ YLABELS = {"asd": r"strain ASD [Hz$^{-1/2}$]", "hc": "characteristic strain", "o
 
 def render_spec(spec: FigureSpec, base_dir=".", ax=None):
     """Draw a spec; returns (figure, artists dict, provenance dict)."""
+    import matplotlib as mpl
+    with mpl.rc_context(FONTS[spec.size]):
+        return _render(spec, base_dir, ax)
+
+
+def _render(spec, base_dir, ax):
     from matplotlib.figure import Figure
 
     from . import __version__
@@ -226,7 +234,7 @@ def render_spec(spec: FigureSpec, base_dir=".", ax=None):
                     artists["annotations"].append(ax.axvline(x, color=ln.get_color(), lw=0.6, linestyle="--"))
                 artists["annotations"].append(ax.annotate(
                     f"ASD < {item.band:.0e}: {lo:.2g}-{hi:.2g} Hz", (np.sqrt(lo * hi), item.band),
-                    fontsize="xx-small" if small else "x-small", ha="center", va="bottom", color=ln.get_color()))
+                    fontsize="x-small", ha="center", va="bottom", color=ln.get_color()))
     for item in spec.reference:
         try:
             ref = get_reference(item.name)
@@ -269,13 +277,16 @@ def render_spec(spec: FigureSpec, base_dir=".", ax=None):
     ax.set_ylabel(YLABELS[spec.form])
     ax.grid(True, which="major", alpha=0.3)
     if spec.title:
-        ax.set_title(spec.title, fontsize="medium" if small else "large")
-    artists["legend"] = ax.legend(loc="best", fontsize="xx-small" if small else "x-small", framealpha=0.85)
+        ax.set_title(spec.title)
+    if small:  # one column: the legend goes under the axes, in two columns
+        artists["legend"] = ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, frameon=False)
+    else:
+        artists["legend"] = ax.legend(loc="best", framealpha=0.85)
     caption = {"asd": "sky-averaged; sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)",
                "hc": "sky-averaged; h_n = sqrt(f S_n); monochromatic h_c = h0 sqrt(f T)",
                "omega": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0"}[spec.form]
-    artists["caption"] = ax.text(0.0, -0.02, caption, transform=fig.transFigure, fontsize=5 if small else 6,
-                                 color="0.35", va="bottom")
+    artists["caption"] = ax.text(0.995, 0.005, caption, transform=ax.transAxes, fontsize=4 if small else 6,
+                                 color="0.35", ha="right", va="bottom")
     return fig, artists, provenance
 
 
