@@ -68,11 +68,8 @@ def _grid(args):
 
 
 def _outputs(args):
-    from .tables import TABLE_FORMATS, check_output_path
-    if args.table:
-        check_output_path(args.table, TABLE_FORMATS)
-    if args.plot:
-        check_output_path(args.plot, (".png", ".pdf", ".svg"))
+    from .tables import check_outputs
+    check_outputs(args)
 
 
 def _summary(budget, name):

@@ -101,11 +101,8 @@ def _figure(path, draw, title):
 
 
 def _check_outputs(args):
-    from .tables import TABLE_FORMATS, check_output_path
-    if getattr(args, "table", None):
-        check_output_path(args.table, TABLE_FORMATS)
-    if getattr(args, "plot", None):
-        check_output_path(args.plot, (".png", ".pdf", ".svg"))
+    from .tables import check_outputs
+    check_outputs(args)
 
 
 def cmd_references(args):

@@ -39,7 +39,7 @@ def _chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed):
     """Evaluate one chunk of grid points; returns an astropy Table (runs in workers too)."""
     from astropy.table import Table
 
-    from .sweep import evaluate_points, parse_metric, perturbed_metrics, points
+    from .sweep import evaluate_points, parse_metric, perturbed_metrics
     metrics = [parse_metric(t) for t in metric_texts]
     sub = []
     for combo in combos:
@@ -76,7 +76,6 @@ def _chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed):
                 if unit:
                     t[col + "_p05"].unit = t[col + "_p95"].unit = unit
     t["status"] = [r or "ok" for _, _, r in sub]
-    del points
     return t
 
 
@@ -176,7 +175,7 @@ def _collect_and_write(args, mission, digest, axes, metric_texts, perturb):
 def cmd_sweep(args):
     from .mission import load_mission
     from .sweep import parse_metric, parse_perturb, parse_vary
-    from .tables import TABLE_FORMATS, check_output_path
+    from .tables import check_outputs
     mission, digest = load_mission(args.mission)
     axes = [parse_vary(v, mission) for v in args.vary]
     if len({a.field for a in axes}) != len(axes):
@@ -184,10 +183,7 @@ def cmd_sweep(args):
     metrics = [parse_metric(m) for m in args.metric]
     perturb = [parse_perturb(p, mission) for p in (args.perturb or [])]
     _workers(args)
-    if args.table:
-        check_output_path(args.table, TABLE_FORMATS)
-    if args.plot:
-        check_output_path(args.plot, (".png", ".pdf", ".svg"))
+    check_outputs(args)
     table = _collect_and_write(args, mission, digest, axes, [m.text for m in metrics], perturb)
     if table is not None and not args.table:
         table.pprint(max_lines=40, max_width=160)
@@ -260,11 +256,8 @@ def cmd_scan(args):
     if f1 >= f2 or args.steps < 1:
         raise InputError("expected --from below --to and --steps >= 1", source="command line")
     f = _grid(args)
-    from .tables import TABLE_FORMATS, check_output_path
-    if args.table:
-        check_output_path(args.table, TABLE_FORMATS)
-    if args.plot:
-        check_output_path(args.plot, (".png", ".pdf", ".svg"))
+    from .tables import check_outputs
+    check_outputs(args)
     design = mission.design()
     tunings = np.geomspace(f1, f2, args.steps)
     try:

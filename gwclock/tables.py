@@ -114,6 +114,14 @@ def check_output_path(path, kinds) -> Path:
     return p
 
 
+def check_outputs(args) -> None:
+    """Check a command's ``--table`` and ``--plot`` paths before any work is done."""
+    if getattr(args, "table", None):
+        check_output_path(args.table, TABLE_FORMATS)
+    if getattr(args, "plot", None):
+        check_output_path(args.plot, (".png", ".pdf", ".svg"))
+
+
 class atomic_path:
     """Context manager yielding a temporary path beside ``target``; renamed onto it on success.
 
