@@ -30,3 +30,10 @@ def quiet_design(**changes):
 @pytest.fixture
 def design():
     return quiet_design()
+
+
+# property tests draw the same examples on every run (reproducible CI)
+from hypothesis import settings as _settings  # noqa: E402
+
+_settings.register_profile("gwclock", derandomize=True, deadline=None)
+_settings.load_profile("gwclock")
