@@ -338,12 +338,35 @@ def _best_with_fallback(design, f0):
     best, ok = _best(design, kind, f0)
     if isinstance(kind, Ramsey):
         return best, ok
-    rb, rok = _best(design, _RAMSEY, f0)
-    take = rok & (~ok | (_total(rb) < _total(best)))
+    # Ramsey cannot win where even a strict lower bound of its projection noise exceeds the DD total
+    look = ~ok | (_ramsey_projection_bound(design, f0) < _total(best))
+    if not np.any(look):
+        return best, ok
+    sub = design.take(look, f0.size)
+    rb, rok = _best(sub, _RAMSEY, f0[look])
+    idx = np.flatnonzero(look)
+    take = rok & (~ok[look] | (_total(rb) < _total({k: np.asarray(v)[look] for k, v in best.items()})))
     if np.any(take):
-        best = {k: np.where(take, rb[k], best[k]) for k in best}
-        ok = ok | take
+        best = {k: np.array(v) for k, v in best.items()}
+        for k in best:
+            best[k][idx[take]] = np.asarray(rb[k])[take]
+        ok = ok.copy()
+        ok[idx[take]] = True
     return best, ok
+
+
+def _ramsey_projection_bound(design, f0):
+    """A strict lower bound of the Ramsey S_y,eq at f0: the projection term 2 Tc sigma^2 /
+    ((2 pi nu0)^2 |G|^2) with C = 1, the smallest read-out penalty, and |G|^2 <= min(T^2, 1/(pi f0)^2),
+    minimised over T in the allowed range (the other noises only add)."""
+    lo = np.maximum(1e-3 * design.max_interrogation, 2.5 * design.pi_pulse_duration)
+    hi = design.max_interrogation
+    Td = design.dead_time
+    w = np.pi * f0
+    cross = np.clip(1.0 / w, lo, hi)  # where 1/T^2 meets (pi f0)^2, inside the range
+    g = np.maximum((cross + Td) / cross**2, (cross + Td) * w**2)
+    xi2 = np.minimum(design.squeezing, 1.0)
+    return 2 * 2 * xi2 / design.atom_number * g / (2 * np.pi * design.nu0) ** 2
 
 
 def window_psd(design: Design, tunings, frequency):
