@@ -149,3 +149,15 @@ def test_killed_run_leaves_the_old_output_intact(tmp_path, sig):
     leftovers = [p.name for p in tmp_path.iterdir() if p.name != "table.ecsv"]
     if sig == signal.SIGTERM:
         assert leftovers == []  # cleaned up on a polite stop
+
+
+@settings(max_examples=40, deadline=None)
+@given(designs)
+def test_ramsey_shortcut_bound_is_a_lower_bound(d):
+    # the engine skips Ramsey where this bound exceeds the DD result; it must never exceed the
+    # Ramsey result itself (analytic bound: C <= 1, kappa >= 1, |G|^2 <= min(T^2, 1/(pi f)^2))
+    from gwclock import engine
+    f = np.geomspace(1e-6, 1e3, 40)
+    best, ok = engine._best(d, engine.SEQUENCES["ramsey"], f)
+    bound = engine._ramsey_projection_bound(d, f)
+    assert np.all(bound[ok] <= engine._total(best)[ok] * (1 + 1e-12))
