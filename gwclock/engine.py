@@ -359,7 +359,7 @@ def _ramsey_projection_bound(design, f0):
     """A strict lower bound of the Ramsey S_y,eq at f0: the projection term 2 Tc sigma^2 /
     ((2 pi nu0)^2 |G|^2) with C = 1, the smallest read-out penalty, and |G|^2 <= min(T^2, 1/(pi f0)^2),
     minimised over T in the allowed range (the other noises only add)."""
-    lo = np.maximum(1e-3 * design.max_interrogation, 2.5 * design.pi_pulse_duration)
+    lo = 2 * design.pi_pulse_duration  # the shortest Ramsey interrogation ``snap`` accepts
     hi = design.max_interrogation
     Td = design.dead_time
     w = np.pi * f0
