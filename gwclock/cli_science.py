@@ -348,6 +348,11 @@ def _scan(text):
     return lo, hi, steps
 
 
+def against_args(sp, help_text):
+    sp.add_argument("--against", nargs="*", help=help_text)
+    sp.add_argument("--confusion", help="add LISA's galactic confusion for 0.5, 1, 2 or 4 years")
+
+
 def add_commands(sub, mission_arg, grid_args):
     sp = sub.add_parser("references", help="list the reference detectors with their sources and conventions")
     sp.set_defaults(func=cmd_references)
@@ -386,8 +391,7 @@ def add_commands(sub, mission_arg, grid_args):
     sp.add_argument("--cadence", default="600 s", help="retuning interval (schedule track)")
     sp.add_argument("--overhead", default="0 s", help="time lost per retuning (schedule track)")
     sp.add_argument("--observation", help="observing time (default: the mission's duration)")
-    sp.add_argument("--against", nargs="*", help="reference detectors or curve files")
-    sp.add_argument("--confusion", help="add LISA's galactic confusion for 0.5, 1, 2 or 4 years")
+    against_args(sp, "reference detectors or curve files")
     sp.add_argument("--table")
     sp.set_defaults(func=cmd_snr)
 
@@ -396,8 +400,7 @@ def add_commands(sub, mission_arg, grid_args):
     sp.add_argument("--snr", default="8")
     sp.add_argument("--masses", nargs="+", help="source-frame total masses (solar masses)")
     sp.add_argument("--schedule", choices=("fixed", "track", "best"), default="track")
-    sp.add_argument("--against", nargs="*", help=f"references (default: {' '.join(DEFAULT_AGAINST)})")
-    sp.add_argument("--confusion")
+    against_args(sp, f"references (default: {' '.join(DEFAULT_AGAINST)})")
     sp.add_argument("--table")
     sp.add_argument("--plot")
     sp.set_defaults(func=cmd_horizon)
@@ -407,8 +410,7 @@ def add_commands(sub, mission_arg, grid_args):
     grid_args(sp)
     sp.add_argument("--scan", default="5 mHz:5 Hz:12", help="clock scan F1:F2:COUNT (time shared evenly)")
     sp.add_argument("--snr", default="1")
-    sp.add_argument("--against", nargs="*")
-    sp.add_argument("--confusion")
+    against_args(sp, f"references (default: {' '.join(DEFAULT_AGAINST)})")
     sp.set_defaults(func=cmd_background)
 
 

@@ -39,11 +39,9 @@ def _chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed):
     """Evaluate one chunk of grid points; returns an astropy Table (runs in workers too)."""
     from astropy.table import Table
 
-    from .sweep import evaluate_points, parse_metric, perturbed_metrics
+    from .sweep import evaluate_points, parse_metric, perturbed_metrics, point
     metrics = [parse_metric(t) for t in metric_texts]
-    sub = []
-    for combo in combos:
-        sub.extend(_point(mission, axes, combo))
+    sub = [point(mission, axes, combo) for combo in combos]
     valid = [(c, m) for c, m, r in sub if m is not None]
     if perturb:
         values = {col: np.full(len(sub), np.nan) for m in metrics for col in m.columns}
@@ -84,15 +82,6 @@ def _index(axes, combo):
     for a, c in zip(axes, combo):
         i = i * len(a.texts) + c
     return i
-
-
-def _point(mission, axes, combo):
-    changes = {a.field: a.texts[i] for a, i in zip(axes, combo)}
-    try:
-        return [(combo, mission.clone(**changes), "")]
-    except Exception as exc:
-        from .sweep import _reason
-        return [(combo, None, _reason(exc))]
 
 
 def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb=(), samples=200, seed=12345,

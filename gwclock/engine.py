@@ -146,7 +146,7 @@ def _pick(parts, index):
     return {k: np.take_along_axis(np.asarray(v), index[None], axis=0)[0] for k, v in parts.items()}
 
 
-def _bisect_optimum(design, kind, f0, lo, hi, a, b, q, tau_e):
+def _bisect_optimum(design, lo, hi, a, b, q, tau_e):
     """Continuous T in [lo, hi] minimising (T + Td) [a/T + (b + q exp(2T/tau_e))/T^2].
 
     The stationary point solves q e^{2T/tau_e} P(T) = (b + a Td) T + 2 b Td with
@@ -196,11 +196,11 @@ def _periodic_wishes(design, kind, f0):
     t_qpn = np.clip(optimal_interrogation(tau_e, design.dead_time), lo, hi)
     wishes = []
     if design.comparison in ("linear", "auto"):
-        wishes.append(_bisect_optimum(design, kind, f0, t_qpn, hi, a, b, base * design.squeezing, tau_e))
+        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau_e))
     if design.comparison in ("correlated", "auto"):
         t_guess = wishes[0] if wishes else t_qpn
         kappa = projection.correlation_penalty(np.exp(-t_guess / tau_e))
-        wishes.append(_bisect_optimum(design, kind, f0, t_qpn, hi, a, b, base * kappa, tau_e))
+        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * kappa, tau_e))
     if design.comparison == "auto":
         cm1 = kind.common_mode(design, noises.laser_terms(design), f0, 1.0, 1.0)
         with np.errstate(divide="ignore"):
@@ -234,10 +234,10 @@ def _ramsey_wishes(design, f0):
     x = np.linspace(0.0, 1.0, 16).reshape((-1,) + (1,) * np.ndim(f0))
     wishes = list(lo * (hi / lo) ** x) + [t_qpn, 1 / (2 * f0)]
     if design.comparison in ("linear", "auto"):
-        wishes.append(_bisect_optimum(design, None, f0, t_qpn, hi, a, b, base * design.squeezing, tau))
+        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau))
     if design.comparison in ("correlated", "auto"):
         kappa = projection.correlation_penalty(np.exp(-t_qpn / tau))
-        wishes.append(_bisect_optimum(design, None, f0, t_qpn, hi, a, b, base * kappa, tau))
+        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * kappa, tau))
     if design.comparison == "auto":
         cm1 = _RAMSEY.common_mode(design, noises.laser_terms(design), f0, 0.0, 1.0)
         with np.errstate(divide="ignore"):

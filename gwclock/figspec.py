@@ -141,12 +141,12 @@ class FigureSpec(_Item):
 
 def load_spec(path):
     """Read and validate a figure spec; returns (spec, sha256 of the file)."""
-    from .mission import _error_from_validation_for, read_toml
+    from .mission import _error_from_validation, read_toml
     data, raw = read_toml(path, "figure spec")
     try:
         spec = FigureSpec.model_validate(data)
     except ValidationError as exc:
-        raise _error_from_validation_for(exc, str(path), FigureSpec) from None
+        raise _error_from_validation(exc, str(path), FigureSpec) from None
     return spec, hashlib.sha256(raw).hexdigest()[:16]
 
 

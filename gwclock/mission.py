@@ -329,12 +329,8 @@ def _fields_at(loc, root=None) -> list[str]:
     return list(model.model_fields)
 
 
-def _error_from_validation_for(exc: ValidationError, source: str, root) -> InputError:
-    """One-line error for any gwclock schema (missions, figure specs)."""
-    return _error_from_validation(exc, source, root)
-
-
-def _error_from_validation(exc: ValidationError, source: str, root=None) -> InputError:
+def _error_from_validation(exc: ValidationError, source: str | None, root=None) -> InputError:
+    """One-line error for any gwclock schema (missions by default, figure specs with ``root``)."""
     errors = exc.errors(include_url=False)
     # a misspelt key also shows as a missing field: report the misspelling first
     errors.sort(key=lambda e: e["type"] != "extra_forbidden")

@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import io
-import os
-from pathlib import Path
 
 from .tables import TABLE_FORMATS, atomic_path, check_output_path
 
@@ -54,9 +52,3 @@ class TableStream:
         self._fh.close()
         self._atomic.__exit__(RuntimeError, None, None)
 
-
-def remove_quietly(path):
-    try:
-        os.unlink(Path(path))
-    except OSError:
-        pass

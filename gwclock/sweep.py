@@ -8,7 +8,6 @@ chunk.
 
 from __future__ import annotations
 
-import itertools
 import re
 from dataclasses import dataclass
 
@@ -16,7 +15,7 @@ import numpy as np
 
 from .errors import InputError
 
-__all__ = ["Axis", "parse_vary", "parse_metric", "Metric", "points", "evaluate_points", "require",
+__all__ = ["Axis", "parse_vary", "parse_metric", "Metric", "point", "evaluate_points", "require",
            "parse_perturb", "perturbed_metrics"]
 
 
@@ -130,26 +129,23 @@ def parse_metric(text) -> Metric:
                      source="command line", field="--metric", value=text)
 
 
-def points(mission, axes):
-    """Every grid point: (changes dict, Mission or None, reason)."""
-    out = []
-    for combo in itertools.product(*[range(len(a.texts)) for a in axes]):
-        changes = {a.field: a.texts[i] for a, i in zip(axes, combo)}
-        try:
-            out.append((combo, mission.clone(**changes), ""))
-        except Exception as exc:  # pydantic ValidationError: report in the row
-            out.append((combo, None, _reason(exc)))
-    return out
+def point(mission, axes, combo):
+    """One grid point (indices into each axis): (combo, Mission or None, reason it is invalid)."""
+    changes = {a.field: a.texts[i] for a, i in zip(axes, combo)}
+    try:
+        return combo, mission.clone(**changes), ""
+    except Exception as exc:  # a pydantic ValidationError: reported in the row
+        return combo, None, _reason(exc)
 
 
 def _reason(exc):
-    try:
-        err = exc.errors(include_url=False)[0]
-        loc = ".".join(str(p) for p in err["loc"] if not (isinstance(p, str) and "[" in p))
-        msg = err["msg"].replace("Value error, ", "")
-        return f"{loc}: {msg}" if loc else msg
-    except Exception:
-        return " ".join(str(exc).split())
+    """The one-line message of a validation failure, without a file name."""
+    from pydantic import ValidationError
+
+    from .mission import _error_from_validation
+    if isinstance(exc, ValidationError):
+        return str(_error_from_validation(exc, None))
+    return " ".join(str(exc).split())
 
 
 BAND_GRID = np.geomspace(1e-5, 100.0, 240)

@@ -7,7 +7,6 @@ import os
 import tempfile
 from pathlib import Path
 
-import numpy as np
 
 from . import __version__
 from .errors import InputError
