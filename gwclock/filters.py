@@ -14,6 +14,8 @@ Degen, C. L., Reinhard, F. & Cappellaro, P. 2017, Rev. Mod. Phys. 89, 035002.
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 from scipy import special
 
@@ -178,18 +180,26 @@ def finite_pulse_factor(d):
     return (np.pi / 2) * np.sinc((1 - d) / 2) / (1 + d)
 
 
-def _partial_odd(s, count):
-    """``sum_{j=0}^{count-1} (2j + 1)^(-s)`` (count >= 0, may be inf)."""
-    count = np.asarray(count, dtype=float)
-    if s == 0:
-        return count
+#: Partial sums up to this many terms come from a table (exact, computed once per exponent).
+_TABLE_TERMS = 10_000
+
+
+@lru_cache(maxsize=16)
+def _partial_odd_table(s):
+    """``sum_{j=0}^{k-1} (2j + 1)^(-s)`` for k = 0 .. _TABLE_TERMS (read-only)."""
+    k = np.arange(_TABLE_TERMS + 1, dtype=float)
+    table = _partial_odd_direct(s, k)
+    table.setflags(write=False)
+    return table
+
+
+def _partial_odd_direct(s, count):
+    """The closed forms: digamma (s = 1), complete minus Hurwitz-zeta tail (s > 1)."""
     finite = np.isfinite(count)
     c = np.where(finite, np.maximum(count, 0.0), 1.0) + 0.5
     if s == 1:
         value = 0.5 * (special.digamma(c) - special.digamma(0.5))
         return np.where(finite, np.where(count > 0, value, 0.0), np.inf)
-    if s <= 1:
-        raise ValueError("s must be 0, 1 or greater than 1")
     full = (1 - 2.0 ** (-s)) * special.zeta(s)
     # Hurwitz zeta; for large q its Euler-Maclaurin series q^(1-s)/(s-1) + q^(-s)/2 + s q^(-s-1)/12
     # is exact to double precision and much cheaper
@@ -202,6 +212,24 @@ def _partial_odd(s, count):
         hz[small] = special.zeta(s, c[small])
     tail = np.where(finite, 2.0 ** (-s) * np.where(big, series, hz), 0.0)
     return np.where(count > 0, full - tail, 0.0)
+
+
+def _partial_odd(s, count):
+    """``sum_{j=0}^{count-1} (2j + 1)^(-s)`` (count >= 0 whole, may be inf)."""
+    count = np.asarray(count, dtype=float)
+    if s == 0:
+        return count
+    if s < 1:
+        raise ValueError("s must be 0, 1 or greater than 1")
+    # whole counts up to the table size are looked up; the rest use the closed forms
+    flat = count.reshape(-1)
+    inside = (flat >= 0) & (flat <= _TABLE_TERMS)
+    index = np.where(inside, flat, 0.0).astype(np.intp)
+    out = _partial_odd_table(s)[index]
+    rest = ~(inside & (index == flat))
+    if np.any(rest):
+        out[rest] = _partial_odd_direct(s, flat[rest])
+    return out.reshape(count.shape)
 
 
 def odd_harmonic_sum(s, count=np.inf, first=0):

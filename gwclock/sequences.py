@@ -50,6 +50,52 @@ def _power_integral(alpha, lo, hi):
     return np.where(ok, val, 0.0)
 
 
+def _int_power(x, alpha):
+    """x**alpha for a whole alpha by repeated products (cheaper than a float power)."""
+    if alpha == 0:
+        return np.ones_like(x)
+    base = x if alpha > 0 else 1.0 / x
+    out = base
+    for _ in range(abs(int(alpha)) - 1):
+        out = out * base
+    return out
+
+
+def _ramsey_harmonic_sum(terms, f0, T, Tc, harmonics, floor):
+    """``sum_{|m| <= harmonics} S(max(|f_m|, floor)) |G(f_m)|^2`` with f_m = f0 + m/Tc and the Ramsey
+    ``|G(f)|^2 = sin^2(pi f T) / (pi f)^2`` (T^2 at f = 0).
+
+    ``sin(pi f_m T) = Im[e^{i pi f0 T} r^m]`` with ``r = e^{i pi T/Tc}``: the powers of r are built by
+    repeated products (unitary, so rounding grows only linearly in m), two complex exponentials
+    per point instead of one sine per harmonic. (The sine itself is squared, not 1 - cos, so that
+    small angles keep their relative precision.)
+    """
+    f0 = np.asarray(f0, dtype=float)
+    T = np.asarray(T, dtype=float)
+    Tc = np.asarray(Tc, dtype=float)
+    w0 = np.exp(1j * np.pi * f0 * T)
+    r = np.exp(1j * np.pi * T / Tc)
+    total = 0.0
+    rm = 1.0
+    for m in range(harmonics + 1):
+        for sign in ((1,) if m == 0 else (1, -1)):
+            fm = f0 + sign * m / Tc
+            rot = w0 * (rm if sign > 0 else np.conj(rm))
+            sin2 = rot.imag**2
+            pf2 = (np.pi * fm) ** 2
+            G2 = np.where(pf2 > 0, sin2 / np.where(pf2 > 0, pf2, 1.0), T * T)
+            fa = np.maximum(np.abs(fm), floor)
+            weight = 0.0
+            for term in terms:
+                value = term.level * _int_power(fa, term.alpha)
+                if np.any(np.isfinite(term.cutoff)) or np.any(term.low):
+                    value = np.where((fa <= term.cutoff) & (fa >= term.low), value, 0.0)
+                weight = weight + value
+            total = total + weight * G2
+        rm = rm * r
+    return total
+
+
 class Periodic:
     """CPMG-timed sequences: n pi pulses at (k - 1/2) T/n, tuned to f0 = n / (2T).
 
@@ -178,15 +224,11 @@ class Ramsey:
                 out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
         if not red:
             return out
-        # exact discrete sum over the cycle harmonics (leading axis), then the smooth tail
+        # exact discrete sum over the cycle harmonics f_m = f0 + m/Tc, then the smooth tail
         floor = 1.0 / np.asarray(design.duration, dtype=float)
-        m = np.arange(-self.harmonics, self.harmonics + 1).reshape((-1,) + (1,) * len(shape))
-        fm = f0 + m / Tc
-        fa = np.maximum(np.abs(fm), floor)
-        G2 = (T * np.sinc(fm * T)) ** 2
+        out = out + _ramsey_harmonic_sum(red, f0, T, Tc, self.harmonics, floor)
         f_edge = (self.harmonics + 0.5) / Tc
         for term in red:
-            out = out + np.sum(term(fa) * G2, axis=0)
             lo = np.maximum(f_edge, term.low)
             out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
         return out
