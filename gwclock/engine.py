@@ -30,6 +30,8 @@ __all__ = ["Budget", "envelope", "window", "window_psd", "evaluate", "optimise",
 CHUNK = 4096
 _RAMSEY = SEQUENCES["ramsey"]
 _RAMSEY_ROUGH = Ramsey(harmonics=0)
+#: Safeguarded Newton steps for the continuous interrogation optimum.
+_NEWTON_STEPS = 4
 
 
 @dataclass(frozen=True)
@@ -146,33 +148,68 @@ def _pick(parts, index):
     return {k: np.take_along_axis(np.asarray(v), index[None], axis=0)[0] for k, v in parts.items()}
 
 
-def _bisect_optimum(design, lo, hi, a, b, q, tau_e):
+def _log_plus_linear_root(L, steps=3):
+    """v with ``e^v + v = L`` (z = e^v solves z + ln z = L, the Lambert W of e^L), by Newton from
+    the asymptotic start ln(L - ln L) (or L below 1.5): the function is convex in v, so after at
+    most one overshoot the steps close in monotonically."""
+    L = np.asarray(L, dtype=float)
+    big = L > 1.5
+    Ls = np.where(big, L, 2.0)
+    v = np.where(big, np.log(Ls - np.log(Ls)), L - 0.5 * np.exp(np.minimum(L, 1.5)))
+    for _ in range(steps):
+        e = np.exp(v)
+        v = v - (e + v - L) / (e + 1)
+    return v
+
+
+def _continuous_optimum(design, lo, hi, a, b, q, tau_e, iterations=_NEWTON_STEPS):
     """Continuous T in [lo, hi] minimising (T + Td) [a/T + (b + q exp(2T/tau_e))/T^2].
 
-    The stationary point solves q e^{2T/tau_e} P(T) = (b + a Td) T + 2 b Td with
-    P = (2/tau_e) T^2 + (2 Td/tau_e - 1) T - 2 Td; found by bisection in log T (the left side
-    grows without bound, so the root is unique above the projection-only optimum).
+    The stationary point solves ``phi = ln q + 2T/tau_e + ln P(T) - ln R(T) = 0`` with
+    P = (2/tau_e) T^2 + (2 Td/tau_e - 1) T - 2 Td = (2/tau_e)(T - T_P)(T - T_m) and
+    R = (b + a Td) T + 2 b Td. T_P, the root of P, is the projection-only optimum; phi grows from
+    -inf there without bound, so the root is unique. In u = ln(T - T_P) it reads
+    ``u + 2 e^u / tau_e = K(T)`` with K = ln R - ln(T - T_m) - ln(2 q / tau_e) - 2 T_P / tau_e
+    varying slowly (constant without dead time): with K frozen at T = 2 T_P it is a Lambert-W
+    equation, whose root starts Newton steps on the full phi(u), kept inside a shrinking bracket
+    (bisection whenever a step would leave it). ``lo`` must not be below T_P.
     """
     Td = design.dead_time
-    left = np.log(np.maximum(lo, 1e-300))
-    right = np.log(np.maximum(hi, 1e-300))
+    tau_e = np.asarray(tau_e, dtype=float)
+    T_P = optimal_interrogation(tau_e, Td)
+    T_m = -Td * tau_e / T_P
+    span = np.maximum(hi - T_P, 0.0)
+    with np.errstate(divide="ignore"):
+        left = np.log(np.maximum(lo - T_P, 1e-15 * T_P))
+        right = np.log(np.maximum(span, 1e-300))
+    log_q = np.log(q) + np.log(2 / tau_e)
+    k2 = b + a * Td
+    c0 = 2 * b * Td
 
-    def positive(T):
-        P = (2 / tau_e) * T**2 + (2 * Td / tau_e - 1) * T - 2 * Td
-        rhs = (b + a * Td) * T + 2 * b * Td
-        with np.errstate(divide="ignore"):
-            lhs_log = np.log(q) + np.minimum(2 * T / tau_e, 1e300) + np.log(np.where(P > 0, P, 1.0))
-            rhs_log = np.log(np.where(rhs > 0, rhs, 1e-300))
-        return (P > 0) & (lhs_log > rhs_log)
+    def phi(u):
+        e = np.exp(u)
+        T = T_P + e
+        R = k2 * T + c0
+        Rs = np.where(R > 0, R, 1.0)
+        grow = np.minimum(2 * T / tau_e, 1e300)
+        value = np.where(R > 0, log_q + grow + u + np.log(T - T_m) - np.log(Rs), np.inf)
+        slope = e * (2 / tau_e - k2 / Rs + 1 / (T - T_m)) + 1
+        return value, slope
 
-    done_hi = ~positive(np.exp(right))  # derivative still negative at hi: the optimum is hi
-    for _ in range(26):
-        mid = 0.5 * (left + right)
-        up = positive(np.exp(mid))
-        right = np.where(up, mid, right)
-        left = np.where(up, left, mid)
-    T = np.exp(0.5 * (left + right))
-    return np.where(done_hi, hi, T)
+    at_hi = ~(phi(right)[0] > 0) | (span <= 0)  # derivative still negative at hi: the optimum is hi
+    at_lo = phi(left)[0] >= 0  # already rising at lo (lo above T_P): the optimum is lo
+    T_g = 2 * T_P
+    K = np.log(np.maximum(k2 * T_g + c0, 1e-300)) - np.log(T_g - T_m) - log_q - 2 * T_P / tau_e
+    x = np.clip(_log_plus_linear_root(K + np.log(2 / tau_e)) + np.log(tau_e / 2), left, right)
+    for _ in range(iterations):
+        value, slope = phi(x)
+        up = value > 0
+        right = np.where(up, x, right)
+        left = np.where(up, left, x)
+        step = x - value / slope
+        inside = np.isfinite(step) & (step >= left) & (step <= right)
+        x = np.where(inside, step, 0.5 * (left + right))
+    return np.where(at_hi, hi, np.where(at_lo, lo, np.clip(T_P + np.exp(x), lo, hi)))
 
 
 def _periodic_wishes(design, kind, f0):
@@ -196,11 +233,11 @@ def _periodic_wishes(design, kind, f0):
     t_qpn = np.clip(optimal_interrogation(tau_e, design.dead_time), lo, hi)
     wishes = []
     if design.comparison in ("linear", "auto"):
-        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau_e))
+        wishes.append(_continuous_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau_e))
     if design.comparison in ("correlated", "auto"):
         t_guess = wishes[0] if wishes else t_qpn
         kappa = projection.correlation_penalty(np.exp(-t_guess / tau_e))
-        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * kappa, tau_e))
+        wishes.append(_continuous_optimum(design, t_qpn, hi, a, b, base * kappa, tau_e))
     if design.comparison == "auto":
         cm1 = kind.common_mode(design, noises.laser_terms(design), f0, 1.0, 1.0)
         with np.errstate(divide="ignore"):
@@ -234,10 +271,10 @@ def _ramsey_wishes(design, f0):
     x = np.linspace(0.0, 1.0, 16).reshape((-1,) + (1,) * np.ndim(f0))
     wishes = list(lo * (hi / lo) ** x) + [t_qpn, 1 / (2 * f0)]
     if design.comparison in ("linear", "auto"):
-        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau))
+        wishes.append(_continuous_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau))
     if design.comparison in ("correlated", "auto"):
         kappa = projection.correlation_penalty(np.exp(-t_qpn / tau))
-        wishes.append(_bisect_optimum(design, t_qpn, hi, a, b, base * kappa, tau))
+        wishes.append(_continuous_optimum(design, t_qpn, hi, a, b, base * kappa, tau))
     if design.comparison == "auto":
         cm1 = _RAMSEY.common_mode(design, noises.laser_terms(design), f0, 0.0, 1.0)
         with np.errstate(divide="ignore"):

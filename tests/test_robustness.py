@@ -161,3 +161,32 @@ def test_ramsey_shortcut_bound_is_a_lower_bound(d):
     best, ok = engine._best(d, engine.SEQUENCES["ramsey"], f)
     bound = engine._ramsey_projection_bound(d, f)
     assert np.all(bound[ok] <= engine._total(best)[ok] * (1 + 1e-12))
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.floats(0, 100), st.floats(1e-2, 1e5), st.floats(-60, -20), st.floats(-60, -20), st.floats(-60, -20),
+       st.floats(1.0001, 1e4), st.floats(0, 1))
+def test_continuous_interrogation_optimum_is_the_minimum(dead, tau, log_a, log_b, log_q, stretch, start):
+    # the engine's Newton/Lambert-W root must minimise (T + Td)[a/T + (b + q e^{2T/tau})/T^2] on
+    # [lo, hi]; checked against scipy.optimize.minimize_scalar (bounded Brent) on the same range
+    from scipy.optimize import minimize_scalar
+
+    from gwclock import engine
+    from gwclock.sequences import optimal_interrogation
+
+    class D:
+        dead_time = dead
+
+    a, b, q = 10.0**log_a, 10.0**log_b, 10.0**log_q
+    t_p = float(optimal_interrogation(tau, dead))
+    hi = t_p * stretch
+    lo = t_p * (1 + start * (stretch - 1) * 0.5)
+
+    def cost(T):  # natural log of the objective, without overflow
+        parts = [np.log(a / T), np.log(b / T**2), np.log(q / T**2) + 2 * T / tau]
+        return np.log(T + dead) + np.logaddexp.reduce(parts)
+
+    found = float(engine._continuous_optimum(D, np.array([lo]), np.array([hi]), a, b, q, tau)[0])
+    ref = minimize_scalar(cost, bounds=(lo, hi), method="bounded", options={"xatol": 1e-12 * hi}).x
+    assert lo <= found <= hi
+    assert cost(found) <= min(cost(ref), cost(lo), cost(hi)) + 1e-9
