@@ -22,7 +22,7 @@ import numpy as np
 
 from . import noises, projection, response
 from .mission import Design
-from .sequences import SEQUENCES, Periodic, Ramsey, optimal_interrogation
+from .sequences import SEQUENCES, Periodic, Ramsey, needs_harmonic_sum, optimal_interrogation
 
 __all__ = ["Budget", "envelope", "window", "window_psd", "evaluate", "optimise", "frequency_grid", "signal_response", "CHUNK"]
 
@@ -309,11 +309,17 @@ def _safe(design, kind, f0, n, T, valid):
 
 
 def _best_ramsey(design, kind, f0, keep=3):
-    """Ramsey: rank many candidates with the cheap aliasing sum (the m = 0 term and the smooth
-    tail), then evaluate the best ``keep`` with the full discrete sum."""
+    """Ramsey: rank many candidates with the cheap aliasing sum (closed forms, the harmonic nearest
+    zero frequency and the smooth tail), then evaluate the best ``keep`` with the full discrete
+    sum (only when some red noise has no closed form)."""
     wish = _ramsey_wishes(design, f0)
     n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
-    rough = np.where(valid, _total(evaluate(design, _RAMSEY_ROUGH, f0, n, T)), np.inf)
+    rough_parts = evaluate(design, _RAMSEY_ROUGH, f0, n, T)
+    rough = np.where(valid, _total(rough_parts), np.inf)
+    if not needs_harmonic_sum(design, noises.STATIONARY_NOISES.values()):
+        # every red term has its closed form: the rough sum is already the exact one
+        i = np.argmin(rough, axis=0)
+        return _pick(rough_parts, i), np.isfinite(np.take_along_axis(rough, i[None], axis=0)[0])
     order = np.argsort(rough, axis=0)[:keep]
     n, T = np.take_along_axis(n, order, 0), np.take_along_axis(T, order, 0)
     valid = np.take_along_axis(valid, order, 0)

@@ -24,6 +24,7 @@ __all__ = [
     "filter_function",
     "periodic_filter_modulus",
     "ramsey_filter_modulus",
+    "ramsey_random_walk_alias",
     "finite_pulse_factor",
     "odd_harmonic_sum",
     "periodic_noise_integral",
@@ -169,6 +170,65 @@ def ramsey_filter_modulus(f, T):
     """|G(f)| = |sin(pi f T)| / (pi f) of a Ramsey interrogation (``T`` at f = 0)."""
     return np.asarray(T, dtype=float) * np.abs(np.sinc(np.asarray(f, dtype=float) * T))
 
+
+def _csc2_minus_pole(z):
+    """``csc^2 z - 1/z^2`` (1/3 at z = 0) for |z| <= pi/2, by its Laurent series near 0."""
+    z = np.asarray(z, dtype=float)
+    small = np.abs(z) < 0.1
+    zs = np.where(small, 1.0, z)
+    direct = 1.0 / np.sin(zs) ** 2 - 1.0 / zs**2
+    z2 = z * z
+    series = 1 / 3 + z2 * (1 / 15 + z2 * (2 / 189 + z2 * (1 / 675 + z2 * 2 / 10395)))
+    return np.where(small, series, direct)
+
+
+def _sin2_defect(y):
+    """``(y^2 - sin^2 y) / y^4`` (1/3 at y = 0), by its Taylor series near 0."""
+    y = np.asarray(y, dtype=float)
+    small = np.abs(y) < 0.1
+    ys = np.where(small, 1.0, y)
+    direct = (ys**2 - np.sin(ys) ** 2) / ys**4
+    y2 = y * y
+    series = 1 / 3 + y2 * (-2 / 45 + y2 * (1 / 315 + y2 * (-2 / 14175)))
+    return np.where(small, series, direct)
+
+
+def ramsey_random_walk_alias(f0, T, Tc, floor=0.0):
+    """``sum_m |G(f_m)|^2 / max(|f_m|, floor)^2`` over all m, f_m = f0 + m/Tc, for Ramsey |G|.
+
+    The aliasing sum of random-walk FM (S_y = h f^-2, h = 1) into a clock cycled every Tc with
+    interrogation T <= Tc. With x = f0 Tc and r = T/Tc, ``|G(f_m)|^2 / f_m^2 =
+    Tc^4 sin^2(pi r (x + m)) / (pi^2 (x + m)^4)`` and the lattice sum is exact:
+
+        sum_m sin^2(pi r (x + m)) / (x + m)^4 = pi^4 r^2 [csc^2(pi x) - 2 r / 3],   0 < r <= 1,
+
+    from ``sum_m e^{2 pi i a (x+m)} / (x+m)^n``, whose a-derivative is 2 pi i times the n - 1 sum
+    and vanishes for n = 0 and 0 < a < 1 (a Dirac comb), with the n = 1 sum
+    ``pi cot(pi x) + i pi`` and the classical ``sum_m (x+m)^-2 = pi^2 csc^2(pi x)`` (e.g. Abramowitz &
+    Stegun 4.3.92, from memory). The harmonic nearest zero, f* = (x - round(x))/Tc, is taken out
+    of the closed form without cancellation and added back with its PSD floored at ``floor``
+    (the 1/duration floor of the explicit sums).
+    """
+    f0 = np.asarray(f0, dtype=float)
+    T = np.asarray(T, dtype=float)
+    Tc = np.asarray(Tc, dtype=float)
+    x = f0 * Tc
+    d = x - np.round(x)
+    r = T / Tc
+    floored = np.abs(d) < floor * Tc
+    s = np.sin(np.pi * np.where(floored, 0.5, d))
+    out = (np.pi * T * Tc) ** 2 * (1.0 / (s * s) - (2 / 3) * r)
+    if np.any(floored):
+        # the nearest harmonic with its PSD floored: taken out of the closed form without cancellation
+        d, r, T, Tc = (np.broadcast_to(v, out.shape)[floored] for v in (d, r, T, Tc))
+        rest = Tc**4 * np.pi**2 * (r**2 * _csc2_minus_pole(np.pi * d) + r**4 * _sin2_defect(np.pi * r * d)
+                                   - (2 / 3) * r**3)
+        f_near = d / Tc
+        w = np.pi * f_near
+        G2 = np.where(w != 0, np.sin(w * T) ** 2 / np.where(w != 0, w, 1.0) ** 2, T * T)
+        out = np.array(out)
+        out[floored] = rest + G2 / np.maximum(np.abs(f_near), np.broadcast_to(floor, floored.shape)[floored]) ** 2
+    return out
 
 def finite_pulse_factor(d):
     """Reduction of the fundamental of a CPMG filter by finite pi pulses.

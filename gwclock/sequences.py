@@ -62,7 +62,8 @@ def _int_power(x, alpha):
 
 
 def _ramsey_harmonic_sum(terms, f0, T, Tc, harmonics, floor):
-    """``sum_{|m| <= harmonics} S(max(|f_m|, floor)) |G(f_m)|^2`` with f_m = f0 + m/Tc and the Ramsey
+    """``sum_{|m| <= harmonics} S(max(|f_m|, floor)) |G(f_m)|^2`` with f_m = f* + m/Tc (f* the member of
+    the lattice f0 + m/Tc nearest zero) and the Ramsey
     ``|G(f)|^2 = sin^2(pi f T) / (pi f)^2`` (T^2 at f = 0).
 
     ``sin(pi f_m T) = Im[e^{i pi f0 T} r^m]`` with ``r = e^{i pi T/Tc}``: the powers of r are built by
@@ -70,9 +71,12 @@ def _ramsey_harmonic_sum(terms, f0, T, Tc, harmonics, floor):
     per point instead of one sine per harmonic. (The sine itself is squared, not 1 - cos, so that
     small angles keep their relative precision.)
     """
-    f0 = np.asarray(f0, dtype=float)
     T = np.asarray(T, dtype=float)
     Tc = np.asarray(Tc, dtype=float)
+    # the lattice f0 + m/Tc is the same from its member nearest zero frequency, where red noise
+    # and |G|^2 are largest: centre the explicit window there (the tail covers |f| > (H + 1/2)/Tc)
+    x = np.asarray(f0, dtype=float) * Tc
+    f0 = (x - np.round(x)) / Tc
     w0 = np.exp(1j * np.pi * f0 * T)
     r = np.exp(1j * np.pi * T / Tc)
     total = 0.0
@@ -165,12 +169,24 @@ class Periodic:
         return (2 * np.pi * design.nu0) ** 2 * out
 
 
+def _closed_form_red(term):
+    """Whether the Ramsey aliasing sum of a red term has the closed form (random-walk FM, whole band)."""
+    return term.alpha == -2 and not np.any(np.isfinite(term.cutoff)) and not np.any(term.low)
+
+
+def needs_harmonic_sum(design, terms_of_noises):
+    """Whether any nonzero red term of the design needs the explicit Ramsey harmonic sum."""
+    return any(term.alpha < 0 and np.any(term.level) and not _closed_form_red(term)
+               for terms_of in terms_of_noises for term in terms_of(design))
+
+
 class Ramsey:
     """Ramsey interrogation (no pi pulse): a low-pass detector, |G| = |sin(pi f T)| / (pi f).
 
-    Stationary noise that rises towards low frequency is passed through the exact discrete
-    aliasing sum over the cycle harmonics m / Tc (|m| <= 16) plus its smooth tail; white and
-    rising noise use the smooth (plateau) form.
+    Stationary noise that rises towards low frequency is passed through the exact aliasing sum:
+    in closed form for random-walk FM (:func:`gwclock.filters.ramsey_random_walk_alias`), and
+    otherwise over the cycle harmonics m / Tc (|m| <= 16) plus its smooth tail; white and rising
+    noise use the smooth (plateau) form.
     """
 
     dd = False
@@ -224,8 +240,15 @@ class Ramsey:
                 out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
         if not red:
             return out
-        # exact discrete sum over the cycle harmonics f_m = f0 + m/Tc, then the smooth tail
         floor = 1.0 / np.asarray(design.duration, dtype=float)
+        # random-walk FM over the whole band: the infinite aliasing sum in closed form
+        walk = [t for t in red if _closed_form_red(t)]
+        for term in walk:
+            out = out + term.level * filters.ramsey_random_walk_alias(f0, T, Tc, floor)
+        red = [t for t in red if not _closed_form_red(t)]
+        if not red:
+            return out
+        # other red noise: exact discrete sum over the cycle harmonics f_m = f0 + m/Tc, then the tail
         out = out + _ramsey_harmonic_sum(red, f0, T, Tc, self.harmonics, floor)
         f_edge = (self.harmonics + 0.5) / Tc
         for term in red:

@@ -187,3 +187,25 @@ def test_ramsey_flicker_constant_by_quadrature():
     head = integrate.quad(lambda u: np.sinc(u) ** 2 / u, x, 1, limit=200)[0]
     tail = (0.5 - integrate.quad(lambda u: u**-3.0, 1, np.inf, weight="cos", wvar=2 * np.pi)[0]) / (2 * np.pi**2)
     assert head + tail - np.log(1 / x) == pytest.approx(RAMSEY_FLICKER_CONSTANT, abs=1e-7)
+
+
+def test_odd_harmonic_sums_table_and_closed_form_agree():
+    # whole counts below 1e4 come from a table, larger ones from the Hurwitz-zeta / digamma forms;
+    # both against brute-force summation, in one mixed array
+    counts = np.array([3.0, 9_999.0, 10_000.0, 10_001.0, 25_000.0])
+    for s in (1, 2, 3):
+        want = [np.sum((2 * np.arange(c) + 1.0) ** (-s)) for c in counts]
+        assert filters.odd_harmonic_sum(s, counts) == pytest.approx(want, rel=1e-12)
+
+
+@pytest.mark.parametrize("f0, T, Tc", [(2e-3, 30.0, 33.0), (0.0123, 10.0, 10.0), (3.7, 0.1, 0.2),
+                                       (1.0 / 33.0, 30.0, 33.0), (1e-9, 100.0, 150.0)])
+def test_ramsey_random_walk_alias_against_a_long_sum(f0, T, Tc):
+    # the closed lattice sum pi^4 r^2 [csc^2(pi x) - 2r/3] (from sum_m (x+m)^-2 = pi^2 csc^2(pi x),
+    # Abramowitz & Stegun 4.3.92, from memory) against 4e6 explicit harmonics plus their analytic
+    # tail Tc^4 / (3 pi^2 M^3); the PSD floor 1/(3e7 s) bites on the last two cases
+    floor = 1 / 3e7
+    M = 2_000_000
+    fm = f0 + np.arange(-M, M + 1) / Tc
+    brute = np.sum((T * np.sinc(fm * T)) ** 2 / np.maximum(np.abs(fm), floor) ** 2) + Tc**4 / (3 * np.pi**2 * M**3)
+    assert filters.ramsey_random_walk_alias(f0, T, Tc, floor) == pytest.approx(brute, rel=1e-11)
