@@ -378,9 +378,14 @@ def _best_with_fallback(design, f0):
     where Ramsey does better (at low frequency, and where pulse leakage of white phase noise
     outweighs the longer DD interrogation)."""
     kind = SEQUENCES[design.kind]
-    best, ok = _best(design, kind, f0)
     if isinstance(kind, Ramsey):
-        return best, ok
+        return _best(design, kind, f0)
+    # a DD sequence exists at f0 exactly when the longest wished interrogation snaps to a valid one
+    reach = kind.snap(design, f0, np.broadcast_to(design.max_interrogation, f0.shape))[2]
+    if np.all(reach):
+        best, ok = _best(design, kind, f0)
+    else:
+        best, ok = _scatter(_best(design.take(reach, f0.size), kind, f0[reach]), reach)
     # Ramsey cannot win where even a strict lower bound of its projection noise exceeds the DD total
     look = ~ok | (_ramsey_projection_bound(design, f0) < _total(best))
     if not np.any(look):
@@ -395,7 +400,26 @@ def _best_with_fallback(design, f0):
             best[k][idx[take]] = np.asarray(rb[k])[take]
         ok = ok.copy()
         ok[idx[take]] = True
+    lost = ~reach & ~ok  # neither kind fits: report the (invalid) DD candidate, as where DD was tried
+    if np.any(lost):
+        dd, _ = _best(design.take(lost, f0.size), kind, f0[lost])
+        for k in best:
+            best[k][lost] = np.asarray(dd[k])
     return best, ok
+
+
+def _scatter(result, mask):
+    """Per-point results computed on ``mask`` placed into full-size arrays (NaN / invalid elsewhere)."""
+    part, part_ok = result
+    out = {}
+    for k, v in part.items():
+        v = np.asarray(v)
+        full = np.full(mask.shape, np.nan if v.dtype.kind == "f" else 0, dtype=v.dtype)
+        full[mask] = v
+        out[k] = full
+    ok = np.zeros(mask.shape, dtype=bool)
+    ok[mask] = part_ok
+    return out, ok
 
 
 def _ramsey_projection_bound(design, f0):

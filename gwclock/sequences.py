@@ -40,13 +40,16 @@ def _power_integral(alpha, lo, hi):
     lo = np.asarray(lo, dtype=float)
     hi = np.asarray(hi, dtype=float)
     ok = hi > lo
-    hi_s = np.where(ok, hi, 2 * lo)
     if alpha == 1:
-        val = np.log(hi_s / lo)
-    else:
-        with np.errstate(over="ignore"):
-            top = np.where(np.isfinite(hi_s), hi_s ** (alpha - 1.0), 0.0)
-        val = (top - lo ** (alpha - 1.0)) / (alpha - 1.0)
+        return np.where(ok, np.log(np.where(ok, hi, 2 * lo) / lo), 0.0)
+    e = alpha - 1
+    with np.errstate(over="ignore"):
+        if hi.ndim == 0:  # the usual case: one cutoff (often infinite) for every point
+            top = 0.0 if not np.isfinite(hi) else float(hi) ** e
+        else:
+            hi_s = np.where(ok, hi, 2 * lo)
+            top = np.where(np.isfinite(hi_s), _int_power(hi_s, e), 0.0)
+        val = (top - _int_power(lo, e)) / e
     return np.where(ok, val, 0.0)
 
 
