@@ -45,7 +45,7 @@ def _power_integral(alpha, lo, hi):
     e = alpha - 1
     with np.errstate(over="ignore"):
         if hi.ndim == 0:  # the usual case: one cutoff (often infinite) for every point
-            top = 0.0 if not np.isfinite(hi) else float(hi) ** e
+            top = float(hi) ** e if np.isfinite(hi) and hi > 0 else 0.0  # hi <= 0 gives zero below
         else:
             hi_s = np.where(ok, hi, 2 * lo)
             top = np.where(np.isfinite(hi_s), _int_power(hi_s, e), 0.0)
