@@ -110,11 +110,30 @@ def _check_grid(frequency):
     return f
 
 
-def evaluate(design: Design, kind, f0, n, T):
+def _linear_noise(design, kind, f0):
+    """For a kind whose noise integrals are linear in T (CPMG timing): per stationary noise the
+    (slope, edge) of ``sum_terms integral S |G|^2 df = slope * T + edge`` at each f0, and the same
+    for the shared laser's common mode (key ``"common"``), computed once per tuning."""
+    out = {}
+    groups = dict(noises.STATIONARY_NOISES, common=noises.laser_terms)
+    for name, terms_of in groups.items():
+        slope, edge = 0.0, 0.0
+        for term in terms_of(design):
+            if name != "common" and not np.any(term.level):
+                continue
+            s, e = kind.noise_coefficients(design, term, f0)
+            slope, edge = slope + s, edge + e
+        out[name] = (slope, edge)
+    return out
+
+
+def evaluate(design: Design, kind, f0, n, T, linear=None):
     """Noise budget of given sequences (n pulses, interrogation T) tuned to f0.
 
-    Parameters broadcast together. Returns a dict with the equivalent fractional-frequency PSD
-    of every noise (``noises.NOISES`` keys, 1/Hz), ``log_contrast``, ``correlated`` and ``cycle``.
+    Parameters broadcast together; ``linear`` takes the per-f0 coefficients of
+    :func:`_linear_noise` (same f0) to skip recomputing them. Returns a dict with the equivalent
+    fractional-frequency PSD of every noise (``noises.NOISES`` keys, 1/Hz), ``log_contrast``,
+    ``correlated`` and ``cycle``.
     """
     f0, n, T = (np.asarray(v, dtype=float) for v in (f0, n, T))
     shape = np.broadcast(f0, n, T).shape
@@ -124,13 +143,21 @@ def evaluate(design: Design, kind, f0, n, T):
     log_c = -T / design.coherence_time + n * np.log1p(-eps)
     G0sq = kind.fundamental(design, f0, n, T) ** 2
     if design.comparison == "auto":
-        cm = kind.common_mode(design, noises.laser_terms(design), f0, n, T)
+        if linear is None:
+            cm = kind.common_mode(design, noises.laser_terms(design), f0, n, T)
+        else:
+            slope, edge = linear["common"]
+            cm = (2 * np.pi * design.nu0) ** 2 * (edge + slope * T)
         correlated = cm > projection.CORRELATED_THRESHOLD
     else:
         correlated = np.full(shape, design.comparison == "correlated")
     var = projection.phase_variance(design.atom_number, log_c, design.squeezing, correlated)
     out = {"projection": 2 * Tc * var / ((2 * np.pi * design.nu0) ** 2 * G0sq)}
     for name, terms_of in noises.STATIONARY_NOISES.items():
+        if linear is not None:
+            slope, edge = linear[name]
+            out[name] = 2 * Tc * (edge + slope * T) / G0sq
+            continue
         terms = terms_of(design)
         out[name] = kind.aliased(design, terms, f0, n, T, Tc) / G0sq if terms else np.zeros(shape)
     out = {k: np.broadcast_to(v, shape) for k, v in out.items()}
@@ -212,7 +239,7 @@ def _continuous_optimum(design, lo, hi, a, b, q, tau_e, iterations=_NEWTON_STEPS
     return np.where(at_hi, hi, np.where(at_lo, lo, np.clip(T_P + np.exp(x), lo, hi)))
 
 
-def _periodic_wishes(design, kind, f0):
+def _periodic_wishes(design, kind, f0, linear):
     """Candidate interrogation times for a CPMG-timed kind: the analytic optimum of each read-out
     mode, both sides of the linear/correlated switch, and the ends of the allowed range."""
     from .filters import finite_pulse_factor
@@ -221,13 +248,8 @@ def _periodic_wishes(design, kind, f0):
     eps = -np.log1p(-kind.pulse_error(design))
     tau_e = 1 / (1 / design.coherence_time + 2 * f0 * eps)
     G0fac = (2 / np.pi) ** 2 * finite_pulse_factor(2 * f0 * design.pi_pulse_duration) ** 2
-    U = 0.0
-    V = 0.0
-    for terms_of in noises.STATIONARY_NOISES.values():
-        for term in terms_of(design):
-            i1 = kind.noise_integral(design, term, f0, 1.0, 1.0)
-            i0 = kind.noise_integral(design, term, f0, 1.0, 0.0)
-            U, V = U + (i1 - i0), V + i0
+    U = sum(linear[name][0] for name in noises.STATIONARY_NOISES)
+    V = sum(linear[name][1] for name in noises.STATIONARY_NOISES)
     a, b = 2 * U / G0fac, 2 * V / G0fac
     base = 4 / (design.atom_number * (2 * np.pi * design.nu0) ** 2 * G0fac)
     t_qpn = np.clip(optimal_interrogation(tau_e, design.dead_time), lo, hi)
@@ -239,7 +261,8 @@ def _periodic_wishes(design, kind, f0):
         kappa = projection.correlation_penalty(np.exp(-t_guess / tau_e))
         wishes.append(_continuous_optimum(design, t_qpn, hi, a, b, base * kappa, tau_e))
     if design.comparison == "auto":
-        cm1 = kind.common_mode(design, noises.laser_terms(design), f0, 1.0, 1.0)
+        slope, edge = linear["common"]
+        cm1 = (2 * np.pi * design.nu0) ** 2 * (edge + slope)
         with np.errstate(divide="ignore"):
             t_sw = np.where(cm1 > 0, projection.CORRELATED_THRESHOLD / cm1, hi)
         wishes.append(np.clip(t_sw, lo, hi))
@@ -285,14 +308,15 @@ def _ramsey_wishes(design, f0):
 def _best(design, kind, f0):
     """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity."""
     f0 = np.asarray(f0, dtype=float)
+    linear = _linear_noise(design, kind, f0) if isinstance(kind, Periodic) else None
     if isinstance(kind, Periodic) and kind.fixed is None:
-        wish = _periodic_wishes(design, kind, f0)
+        wish = _periodic_wishes(design, kind, f0, linear)
     elif kind.dd:  # echo, custom: one sequence per tuning
         wish = (1.0 / (2 * f0))[None]
     else:
         return _best_ramsey(design, kind, f0)
     n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
-    parts = evaluate(design, kind, f0, n, T)
+    parts = evaluate(design, kind, f0, n, T, linear)
     score = np.where(valid, _total(parts), np.inf)
     i = np.argmin(score, axis=0)
     best = _pick(parts, i)

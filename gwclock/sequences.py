@@ -152,10 +152,15 @@ class Periodic:
     def modulus(self, design, f, n, T):
         return filters.periodic_filter_modulus(f, T, n, design.pi_pulse_duration)
 
+    def noise_coefficients(self, design, term, f0):
+        """(slope, edge) of the noise integral, ``slope * T + edge`` (it is linear in T)."""
+        slope, edge = filters.periodic_noise_coefficients(term.alpha, f0, term.cutoff, term.low)
+        return term.level * slope, term.level * edge
+
     def noise_integral(self, design, term, f0, n, T):
         # linear in T: evaluate the harmonic sums once on f0's own shape, then scale by T
-        slope, edge = filters.periodic_noise_coefficients(term.alpha, f0, term.cutoff, term.low)
-        return term.level * (edge + slope * np.asarray(T, dtype=float))
+        slope, edge = self.noise_coefficients(design, term, f0)
+        return edge + slope * np.asarray(T, dtype=float)
 
     def aliased(self, design, terms, f0, n, T, Tc):
         """sum_m S(|f0 + m/Tc|) |G|^2 in its smooth-noise form 2 Tc integral S |G|^2 df."""
