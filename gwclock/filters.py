@@ -168,7 +168,11 @@ def periodic_filter_modulus(f, T, n, pulse_duration=0.0):
 
 def ramsey_filter_modulus(f, T):
     """|G(f)| = |sin(pi f T)| / (pi f) of a Ramsey interrogation (``T`` at f = 0)."""
-    return np.asarray(T, dtype=float) * np.abs(np.sinc(np.asarray(f, dtype=float) * T))
+    f = np.asarray(f, dtype=float)
+    T = np.asarray(T, dtype=float)
+    w = np.pi * f
+    nonzero = w != 0
+    return np.where(nonzero, np.abs(np.sin(w * T)) / np.where(nonzero, w, 1.0), T)
 
 
 def _csc2_minus_pole(z):

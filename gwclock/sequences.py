@@ -268,6 +268,8 @@ class Ramsey:
         T = np.asarray(T, dtype=float)
         out = 0.0
         for term in terms:
+            if not np.any(term.level):
+                continue
             if term.alpha == 0:
                 out = out + term.level * T / 2
             elif term.alpha == -1:
