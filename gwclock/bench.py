@@ -93,7 +93,7 @@ def main() -> int:
     # (e) two local workers vs one on a large sweep
     from .cli_study import run_sweep
     from .sweep import parse_vary
-    axes = [parse_vary("clock.atom_number=1e4:1e7:48:log", mission), parse_vary("link.baseline=1e9 m:1e11 m:16:log", mission)]
+    axes = [parse_vary("clock.atom_number=1e4:1e7:64:log", mission), parse_vary("link.baseline=1e9 m:1e11 m:48:log", mission)]
     tables = {}
 
     def sweep(workers):
