@@ -266,7 +266,7 @@ class Ramsey:
 
     def common_mode(self, design, terms, f0, n, T):
         T = np.asarray(T, dtype=float)
-        out = 0.0
+        out = np.zeros(np.broadcast(f0, T).shape)
         for term in terms:
             if not np.any(term.level):
                 continue
