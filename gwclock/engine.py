@@ -20,7 +20,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import noises, projection, response
+from . import filters, noises, projection, response
 from .mission import Design
 from .sequences import SEQUENCES, Periodic, Ramsey, needs_harmonic_sum, optimal_interrogation
 
@@ -30,6 +30,8 @@ __all__ = ["Budget", "envelope", "window", "window_psd", "evaluate", "optimise",
 CHUNK = 4096
 _RAMSEY = SEQUENCES["ramsey"]
 _RAMSEY_ROUGH = Ramsey(harmonics=0)
+#: Log-spaced Ramsey interrogation candidates (the first rows of the Ramsey candidate list).
+_RAMSEY_LADDER = 16
 #: Safeguarded Newton steps for the continuous interrogation optimum.
 _NEWTON_STEPS = 4
 
@@ -291,7 +293,7 @@ def _ramsey_wishes(design, f0):
                 b = b + 2 * term.level * np.maximum(term.cutoff - term.low, 0.0) / (2 * np.pi**2)
     base = 4 / (design.atom_number * (2 * np.pi * design.nu0) ** 2)
     t_qpn = np.clip(optimal_interrogation(tau, design.dead_time), lo, hi)
-    x = np.linspace(0.0, 1.0, 16).reshape((-1,) + (1,) * np.ndim(f0))
+    x = np.linspace(0.0, 1.0, _RAMSEY_LADDER).reshape((-1,) + (1,) * np.ndim(f0))
     wishes = list(lo * (hi / lo) ** x) + [t_qpn, 1 / (2 * f0)]
     if design.comparison in ("linear", "auto"):
         wishes.append(_continuous_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau))
@@ -338,17 +340,54 @@ def _best_ramsey(design, kind, f0, keep=3):
     sum (only when some red noise has no closed form)."""
     wish = _ramsey_wishes(design, f0)
     n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
-    rough_parts = evaluate(design, _RAMSEY_ROUGH, f0, n, T)
-    rough = np.where(valid, _total(rough_parts), np.inf)
     if not needs_harmonic_sum(design, noises.STATIONARY_NOISES.values()):
         # every red term has its closed form: the rough sum is already the exact one
-        i = np.argmin(rough, axis=0)
-        return _pick(rough_parts, i), np.isfinite(np.take_along_axis(rough, i[None], axis=0)[0])
+        return _best_ramsey_pruned(design, f0, n, T, valid)
+    rough_parts = evaluate(design, _RAMSEY_ROUGH, f0, n, T)
+    rough = np.where(valid, _total(rough_parts), np.inf)
     order = np.argsort(rough, axis=0)[:keep]
     n, T = np.take_along_axis(n, order, 0), np.take_along_axis(T, order, 0)
     valid = np.take_along_axis(valid, order, 0)
     parts = evaluate(design, kind, f0, n, T)
     score = np.where(valid, _total(parts), np.inf)
+    i = np.argmin(score, axis=0)
+    return _pick(parts, i), np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
+
+
+def _ramsey_projection_of(design, f0, T):
+    """A lower bound of the Ramsey S_y,eq of interrogation T at f0: its projection noise with the
+    smaller of the two read-out factors (xi^2 or kappa >= 1), with the engine's own contrast clamp."""
+    Tc = T + design.dead_time
+    G0 = filters.ramsey_filter_modulus(f0, T)
+    inv_c2 = np.exp(np.minimum(2 * T / design.coherence_time, 500.0))
+    xi2 = np.minimum(design.squeezing, 1.0)
+    return 2 * Tc * 2 * xi2 * inv_c2 / design.atom_number / ((2 * np.pi * design.nu0) ** 2 * G0**2)
+
+
+def _best_ramsey_pruned(design, f0, n, T, valid):
+    """Best Ramsey candidate when every aliasing sum is exact in closed form: evaluate the analytic
+    candidates, then only the ladder candidates whose projection noise alone does not already
+    lose to them (the others cannot win; the result is the same as evaluating them all)."""
+    k = _RAMSEY_LADDER
+    K, F = T.shape
+    head = evaluate(design, _RAMSEY, f0, n[k:], T[k:])
+    head_score = np.where(valid[k:], _total(head), np.inf)
+    best = np.min(head_score, axis=0)
+    with np.errstate(divide="ignore", over="ignore"):
+        bound = _ramsey_projection_of(design, f0, T[:k])
+    alive = valid[:k] & ~(bound > best * (1 + 1e-9))
+    ki, pi = np.nonzero(alive)
+    tail = evaluate(design.take(pi, F), _RAMSEY, f0[pi], n[ki, pi], T[ki, pi])
+    score = np.full((K, F), np.inf)
+    score[k:] = head_score
+    score[ki, pi] = _total(tail)
+    parts = {}
+    for key, value in head.items():
+        value = np.asarray(value)
+        full = np.zeros((K, F), dtype=value.dtype)
+        full[k:] = value
+        full[ki, pi] = np.asarray(tail[key])
+        parts[key] = full
     i = np.argmin(score, axis=0)
     return _pick(parts, i), np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
 
