@@ -22,14 +22,15 @@ import numpy as np
 
 from . import filters, noises, projection, response
 from .mission import Design
-from .sequences import SEQUENCES, Periodic, Ramsey, needs_harmonic_sum, optimal_interrogation
+from .sequences import SEQUENCES, Periodic, Ramsey, closed_form_red, optimal_interrogation
 
 __all__ = ["Budget", "envelope", "window", "window_psd", "evaluate", "optimise", "frequency_grid", "signal_response", "CHUNK"]
 
 #: Frequencies evaluated at once (bounds memory on large grids).
 CHUNK = 4096
 _RAMSEY = SEQUENCES["ramsey"]
-_RAMSEY_ROUGH = Ramsey(harmonics=0)
+#: Ramsey aliasing with only the harmonic nearest zero and no tail: a strict lower bound of the full sum.
+_RAMSEY_FLOOR = Ramsey(harmonics=0, tail=False)
 #: Log-spaced Ramsey interrogation candidates (the first rows of the Ramsey candidate list).
 _RAMSEY_LADDER = 16
 #: Safeguarded Newton steps for the continuous interrogation optimum.
@@ -334,24 +335,19 @@ def _safe(design, kind, f0, n, T, valid):
     return n_ok, np.where(valid, T, T_ok), valid
 
 
-def _best_ramsey(design, kind, f0, keep=3):
-    """Ramsey: rank many candidates with the cheap aliasing sum (closed forms, the harmonic nearest
-    zero frequency and the smooth tail), then evaluate the best ``keep`` with the full discrete
-    sum (only when some red noise has no closed form)."""
+def _best_ramsey(design, kind, f0):
+    """Ramsey: the best of the analytic candidates and the log-spaced ladder, each with its exact
+    aliasing sum; a ladder candidate is evaluated only where its projection noise alone does not
+    already lose to the analytic candidates."""
     wish = _ramsey_wishes(design, f0)
     n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
-    if not needs_harmonic_sum(design, noises.STATIONARY_NOISES.values()):
-        # every red term has its closed form: the rough sum is already the exact one
-        return _best_ramsey_pruned(design, f0, n, T, valid)
-    rough_parts = evaluate(design, _RAMSEY_ROUGH, f0, n, T)
-    rough = np.where(valid, _total(rough_parts), np.inf)
-    order = np.argsort(rough, axis=0)[:keep]
-    n, T = np.take_along_axis(n, order, 0), np.take_along_axis(T, order, 0)
-    valid = np.take_along_axis(valid, order, 0)
-    parts = evaluate(design, kind, f0, n, T)
-    score = np.where(valid, _total(parts), np.inf)
-    i = np.argmin(score, axis=0)
-    return _pick(parts, i), np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
+    return _best_ramsey_pruned(design, f0, n, T, valid)
+
+
+def _open_red_noise(design):
+    """Whether some nonzero red-noise term needs Ramsey's explicit harmonic sum (no closed form)."""
+    return any(term.alpha < 0 and np.any(term.level) and not closed_form_red(term)
+               for terms_of in noises.STATIONARY_NOISES.values() for term in terms_of(design))
 
 
 def _ramsey_projection_of(design, f0, T):
@@ -365,9 +361,10 @@ def _ramsey_projection_of(design, f0, T):
 
 
 def _best_ramsey_pruned(design, f0, n, T, valid):
-    """Best Ramsey candidate when every aliasing sum is exact in closed form: evaluate the analytic
-    candidates, then only the ladder candidates whose projection noise alone does not already
-    lose to them (the others cannot win; the result is the same as evaluating them all)."""
+    """Best Ramsey candidate: evaluate the analytic candidates, then only the ladder candidates
+    whose lower bounds (projection noise alone; then the budget without the explicit harmonics)
+    do not already lose to them. The others cannot win: the result is the same as evaluating
+    them all."""
     k = _RAMSEY_LADDER
     K, F = T.shape
     head = evaluate(design, _RAMSEY, f0, n[k:], T[k:])
@@ -377,19 +374,32 @@ def _best_ramsey_pruned(design, f0, n, T, valid):
         bound = _ramsey_projection_of(design, f0, T[:k])
     alive = valid[:k] & ~(bound > best * (1 + 1e-9))
     ki, pi = np.nonzero(alive)
+    if _open_red_noise(design):
+        # a second, tighter bound before the explicit harmonic sums: the same budget with only the
+        # harmonic nearest zero frequency of each red term that has no closed form
+        low = _total(evaluate(design.take(pi, F), _RAMSEY_FLOOR, f0[pi], n[ki, pi], T[ki, pi]))
+        keep = ~(low > best[pi] * (1 + 1e-9))
+        ki, pi = ki[keep], pi[keep]
     tail = evaluate(design.take(pi, F), _RAMSEY, f0[pi], n[ki, pi], T[ki, pi])
     score = np.full((K, F), np.inf)
     score[k:] = head_score
     score[ki, pi] = _total(tail)
-    parts = {}
-    for key, value in head.items():
-        value = np.asarray(value)
-        full = np.zeros((K, F), dtype=value.dtype)
-        full[k:] = value
-        full[ki, pi] = np.asarray(tail[key])
-        parts[key] = full
     i = np.argmin(score, axis=0)
-    return _pick(parts, i), np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
+    # gather the winner's parts from the analytic block or from the flat list of ladder survivors
+    where = np.zeros((k, F), dtype=np.intp)
+    where[ki, pi] = np.arange(ki.size)
+    point = np.arange(F)
+    from_head = i >= k
+    hi_row = np.where(from_head, i - k, 0)
+    tail_at = where[np.where(from_head, 0, i), point]
+    out = {}
+    for key, value in head.items():
+        value = np.broadcast_to(np.asarray(value), (K - k, F))
+        picked = value[hi_row, point]
+        if ki.size:
+            picked = np.where(from_head, picked, np.asarray(tail[key])[tail_at])
+        out[key] = picked
+    return out, np.isfinite(score[i, point])
 
 
 def optimise(design: Design, f0, kind: str | None = None):

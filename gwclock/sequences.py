@@ -82,23 +82,30 @@ def _ramsey_harmonic_sum(terms, f0, T, Tc, harmonics, floor):
     f0 = (x - np.round(x)) / Tc
     w0 = np.exp(1j * np.pi * f0 * T)
     r = np.exp(1j * np.pi * T / Tc)
-    total = 0.0
-    rm = 1.0
-    for m in range(harmonics + 1):
-        for sign in ((1,) if m == 0 else (1, -1)):
-            fm = f0 + sign * m / Tc
-            rot = w0 * (rm if sign > 0 else np.conj(rm))
-            sin2 = rot.imag**2
-            pf2 = (np.pi * fm) ** 2
-            G2 = np.where(pf2 > 0, sin2 / np.where(pf2 > 0, pf2, 1.0), T * T)
-            fa = np.maximum(np.abs(fm), floor)
-            weight = 0.0
-            for term in terms:
-                value = term.level * _int_power(fa, term.alpha)
-                if np.any(np.isfinite(term.cutoff)) or np.any(term.low):
-                    value = np.where((fa <= term.cutoff) & (fa >= term.low), value, 0.0)
-                weight = weight + value
-            total = total + weight * G2
+    step = 1.0 / Tc
+    top = (harmonics + 0.5) * step
+    # band edges matter only where a harmonic can cross them
+    edged = [bool(np.any(np.asarray(t.cutoff) < np.max(top, initial=0.0)) or np.any(t.low)) for t in terms]
+
+    def weight(fm):
+        fa = np.maximum(np.abs(fm), floor)
+        out = 0.0
+        for term, edge in zip(terms, edged):
+            value = term.level * _int_power(fa, term.alpha)
+            if edge:
+                value = np.where((fa <= term.cutoff) & (fa >= term.low), value, 0.0)
+            out = out + value
+        return out
+
+    # m = 0: f* may be exactly zero (|G|^2 = T^2 there)
+    pf2 = (np.pi * f0) ** 2
+    G2 = np.where(pf2 > 0, w0.imag**2 / np.where(pf2 > 0, pf2, 1.0), T * T)
+    total = weight(f0) * G2
+    rm = r
+    for m in range(1, harmonics + 1):
+        for rot, fm in ((w0 * rm, f0 + m * step), (w0 * np.conj(rm), f0 - m * step)):
+            # |f_m| >= 1/(2 Tc) > 0 for m != 0
+            total = total + weight(fm) * (rot.imag**2 / (np.pi**2 * (fm * fm)))
         rm = rm * r
     return total
 
@@ -177,15 +184,9 @@ class Periodic:
         return (2 * np.pi * design.nu0) ** 2 * out
 
 
-def _closed_form_red(term):
+def closed_form_red(term):
     """Whether the Ramsey aliasing sum of a red term has the closed form (random-walk FM, whole band)."""
     return term.alpha == -2 and not np.any(np.isfinite(term.cutoff)) and not np.any(term.low)
-
-
-def needs_harmonic_sum(design, terms_of_noises):
-    """Whether any nonzero red term of the design needs the explicit Ramsey harmonic sum."""
-    return any(term.alpha < 0 and np.any(term.level) and not _closed_form_red(term)
-               for terms_of in terms_of_noises for term in terms_of(design))
 
 
 class Ramsey:
@@ -200,8 +201,9 @@ class Ramsey:
     dd = False
     name = "ramsey"
 
-    def __init__(self, harmonics=16):
-        self.harmonics = harmonics
+    def __init__(self, harmonics=16, tail=True):
+        # harmonics=0 and tail=False keep only terms of the full sum: a strict lower bound of it
+        self.harmonics, self.tail = harmonics, tail
 
     @staticmethod
     def pulse_error(design):
@@ -250,14 +252,16 @@ class Ramsey:
             return out
         floor = 1.0 / np.asarray(design.duration, dtype=float)
         # random-walk FM over the whole band: the infinite aliasing sum in closed form
-        walk = [t for t in red if _closed_form_red(t)]
+        walk = [t for t in red if closed_form_red(t)]
         for term in walk:
             out = out + term.level * filters.ramsey_random_walk_alias(f0, T, Tc, floor)
-        red = [t for t in red if not _closed_form_red(t)]
+        red = [t for t in red if not closed_form_red(t)]
         if not red:
             return out
         # other red noise: exact discrete sum over the cycle harmonics f_m = f0 + m/Tc, then the tail
         out = out + _ramsey_harmonic_sum(red, f0, T, Tc, self.harmonics, floor)
+        if not self.tail:
+            return out
         f_edge = (self.harmonics + 0.5) / Tc
         for term in red:
             lo = np.maximum(f_edge, term.low)
