@@ -155,14 +155,15 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
     else:
         correlated = np.full(shape, design.comparison == "correlated")
     var = projection.phase_variance(design.atom_number, log_c, design.squeezing, correlated)
-    out = {"projection": 2 * Tc * var / ((2 * np.pi * design.nu0) ** 2 * G0sq)}
+    inv_G0sq = 1.0 / G0sq
+    out = {"projection": (2 * Tc * inv_G0sq) * (var / (2 * np.pi * design.nu0) ** 2)}
     for name, terms_of in noises.STATIONARY_NOISES.items():
         if linear is not None:
             slope, edge = linear[name]
-            out[name] = 2 * Tc * (edge + slope * T) / G0sq
+            out[name] = (2 * Tc * inv_G0sq) * (edge + slope * T)
             continue
         terms = terms_of(design)
-        out[name] = kind.aliased(design, terms, f0, n, T, Tc) / G0sq if terms else np.zeros(shape)
+        out[name] = kind.aliased(design, terms, f0, n, T, Tc) * inv_G0sq if terms else np.zeros(shape)
     out = {k: np.broadcast_to(v, shape) for k, v in out.items()}
     out.update(log_contrast=np.broadcast_to(log_c, shape), correlated=np.broadcast_to(correlated, shape),
                cycle=Tc, pulses=n, interrogation=T)

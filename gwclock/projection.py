@@ -48,6 +48,11 @@ def phase_variance(atom_number, log_contrast, squeezing=1.0, correlated=False, c
     """
     log_contrast = np.asarray(log_contrast, dtype=float)
     inv_c2 = np.exp(np.minimum(-2.0 * log_contrast, 500.0))
-    kappa = np.where(correlated, correlation_penalty(np.exp(log_contrast)), 1.0)
-    xi2 = np.where(correlated, 1.0, squeezing)
-    return clocks * xi2 * kappa * inv_c2 / atom_number
+    correlated = np.asarray(correlated, dtype=bool)
+    base = (clocks / np.asarray(atom_number, dtype=float)) * inv_c2
+    if not np.any(correlated):
+        return base * squeezing
+    factor = correlation_penalty(np.exp(log_contrast))  # kappa, no squeezing gain
+    if not np.all(correlated):
+        factor = np.where(correlated, factor, squeezing)
+    return base * factor

@@ -234,20 +234,23 @@ class Ramsey:
         shape = np.broadcast(f0, T, Tc).shape
         out = np.zeros(shape)
         red = []
+        inv_T = 1.0 / T
         for term in terms:
             if not np.any(term.level):
                 continue
             if term.alpha < 0:
                 red.append(term)
-            elif term.alpha == 0:
-                # white FM: exact for Tc = T (sum_m sinc^2(x + m) = 1) when it has no lower edge;
-                # band-limited white and rising terms use the plateau 1/(2 pi^2 f^2) of |G|^2
-                lo = np.maximum(term.low, 1.0 / T)
-                plateau = 2 * Tc * term.level * _power_integral(0, lo, term.cutoff) / (2 * np.pi**2)
-                out = out + np.where(np.asarray(term.low) > 0, plateau, term.level * Tc * T)
-            else:
-                lo = np.maximum(term.low, 1.0 / T)  # the plateau starts above the main lobe
-                out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
+                continue
+            # the plateau 1/(2 pi^2 f^2) of |G|^2 above the main lobe: 2 Tc S integral / (2 pi^2)
+            lo = np.maximum(term.low, inv_T)
+            plateau = (term.level / np.pi**2) * (Tc * _power_integral(term.alpha, lo, term.cutoff))
+            if term.alpha == 0:
+                # white FM without a lower edge: exact, sum_m S |G(f_m)|^2 = S T Tc (Poisson)
+                low = np.asarray(term.low)
+                white = term.level * (Tc * T)
+                plateau = plateau if np.all(low > 0) else (white if not np.any(low) else
+                                                           np.where(low > 0, plateau, white))
+            out = out + plateau
         if not red:
             return out
         floor = 1.0 / np.asarray(design.duration, dtype=float)
@@ -265,7 +268,7 @@ class Ramsey:
         f_edge = (self.harmonics + 0.5) / Tc
         for term in red:
             lo = np.maximum(f_edge, term.low)
-            out = out + 2 * Tc * term.level * _power_integral(term.alpha, lo, term.cutoff) / (2 * np.pi**2)
+            out = out + (term.level / np.pi**2) * (Tc * _power_integral(term.alpha, lo, term.cutoff))
         return out
 
     def common_mode(self, design, terms, f0, n, T):
