@@ -260,7 +260,7 @@ def cmd_horizon(args):
         key = label.split(" (")[0].lower().replace(" ", "_")
         t[f"z_{key}"] = Column(zs)
         t[f"distance_{key}"] = Column(np.array(ds) / 3.0856775814913673e22, unit="Mpc")
-        print(f"  {label}: " + ", ".join(f"{m:g} Msun: z={z:.3g}" for m, z in zip(masses, zs)))
+        print(f"  {label}: " + ", ".join(f"{m:g} Msun: {_reach(z)}" for m, z in zip(masses, zs)))
         series.append((label, np.array(masses), np.array(zs)))
     t.meta.update(provenance(mission.name, digest))
     t.meta.update(snr_threshold=thr, observation_s=T, clock_schedule=args.schedule,
@@ -351,6 +351,15 @@ def _scan(text):
 def against_args(sp, help_text):
     sp.add_argument("--against", nargs="*", help=help_text)
     sp.add_argument("--confusion", help="add LISA's galactic confusion for 0.5, 1, 2 or 4 years")
+
+
+def _reach(z):
+    """A horizon redshift as printed: 0 and inf are the ends of the searched range."""
+    if z == 0:
+        return "not reached"
+    if not np.isfinite(z):
+        return "z>1000"
+    return f"z={z:.3g}"
 
 
 def add_commands(sub, mission_arg, grid_args):

@@ -155,6 +155,10 @@ def test_snr_horizon_background_commands(tmp_path, capsys):
     assert code == 0
     h = QTable.read(tmp_path / "h.ecsv")
     assert "z_lisa" in h.colnames and h["distance_lisa"].unit == "Mpc"
+    # a 1e5 Msun binary ends its inspiral near f_ISCO ~ 4.4 kHz / 1e5 = 0.044 Hz, below the aLIGO band
+    # (f_ISCO = c^3 / (6^1.5 pi G M), common practice, no source): never reached, said in words
+    code, out, _ = run(["horizon", "--masses", "1e5", "--against", "aligo"], capsys)
+    assert code == 0 and "not reached" in out.splitlines()[-1]
     code, out, _ = run(["background", "--points", 60, "--against", "lisa", "--table", tmp_path / "b.ecsv"], capsys)
     assert code == 0 and "time shared evenly" in out
     b = QTable.read(tmp_path / "b.ecsv")
