@@ -25,6 +25,7 @@ __all__ = [
     "periodic_filter_modulus",
     "ramsey_filter_modulus",
     "ramsey_random_walk_alias",
+    "ramsey_walk4_alias",
     "finite_pulse_factor",
     "odd_harmonic_sum",
     "periodic_noise_integral",
@@ -233,6 +234,68 @@ def ramsey_random_walk_alias(f0, T, Tc, floor=0.0):
         out = np.array(out)
         out[floored] = rest + G2 / np.maximum(np.abs(f_near), np.broadcast_to(floor, floored.shape)[floored]) ** 2
     return out
+
+# Laurent coefficients of csc^2 z - 1/z^2 = c0 + c1 z^2 + c2 z^4 + ... (from the Bernoulli numbers)
+_C0, _C1, _C2, _C3, _C4 = 1 / 3, 1 / 15, 2 / 189, 1 / 675, 2 / 10395
+
+
+def _csc4_minus_poles(z):
+    """``csc^4 z - 1/z^4 - 2/(3 z^2)`` (11/45 at z = 0) for |z| <= pi/2 (square of the csc^2 series)."""
+    z = np.asarray(z, dtype=float)
+    small = np.abs(z) < 0.1
+    zs = np.where(small, 1.0, z)
+    direct = 1.0 / np.sin(zs) ** 4 - 1.0 / zs**4 - 2 / (3 * zs**2)
+    z2 = z * z
+    series = (2 * _C1 + _C0**2) + z2 * ((2 * _C2 + 2 * _C0 * _C1) + z2 * ((2 * _C3 + 2 * _C0 * _C2 + _C1**2)
+                                                                        + z2 * (2 * _C4 + 2 * _C0 * _C3 + 2 * _C1 * _C2)))
+    return np.where(small, series, direct)
+
+
+def _sin2_defect6(y):
+    """``(sin^2 y - y^2 + y^4/3) / y^6`` (2/45 at y = 0), by its Taylor series near 0."""
+    y = np.asarray(y, dtype=float)
+    small = np.abs(y) < 0.3
+    ys = np.where(small, 1.0, y)
+    direct = (np.sin(ys) ** 2 - ys**2 + ys**4 / 3) / ys**6
+    y2 = y * y
+    series = 2 / 45 + y2 * (-1 / 315 + y2 * (2 / 14175 + y2 * (-2.0**11 / 479001600 + y2 * 2.0**13 / 87178291200)))
+    return np.where(small, series, direct)
+
+
+def ramsey_walk4_alias(f0, T, Tc, floor=0.0):
+    """``sum_m |G(f_m)|^2 / max(|f_m|, floor)^4`` over all m, f_m = f0 + m/Tc, for Ramsey |G|.
+
+    The f^-4 companion of :func:`ramsey_random_walk_alias` (the low-frequency corner of drag-free
+    acceleration noise). By the same lattice sums, with s = csc^2(pi x), x = f0 Tc, r = T/Tc:
+
+        sum_m sin^2(pi r (x + m)) / (x + m)^6 = pi^6 [r^2 s^2 - (2 r^2/3 + r^4/3) s + 2 r^5/15].
+
+    The harmonic nearest zero is handled as there, with its Laurent poles removed in closed form.
+    """
+    f0 = np.asarray(f0, dtype=float)
+    T = np.asarray(T, dtype=float)
+    Tc = np.asarray(Tc, dtype=float)
+    x = f0 * Tc
+    d = x - np.round(x)
+    r = T / Tc
+    floored = np.abs(d) < floor * Tc
+    sn = np.sin(np.pi * np.where(floored, 0.5, d))
+    csc2 = 1.0 / (sn * sn)
+    r2 = r * r
+    out = np.pi**4 * Tc**6 * (r2 * csc2 * csc2 - (2 * r2 / 3 + r2 * r2 / 3) * csc2
+                              + 2 * r2 * r2 * r / 15)
+    if np.any(floored):
+        d, r, T, Tc = (np.broadcast_to(v, out.shape)[floored] for v in (d, r, T, Tc))
+        r2 = r * r
+        rest = np.pi**4 * Tc**6 * (r2 * _csc4_minus_poles(np.pi * d) - (2 * r2 / 3 + r2 * r2 / 3) * _csc2_minus_pole(np.pi * d)
+                                   + 2 * r2 * r2 * r / 15 - r2**3 * _sin2_defect6(np.pi * r * d))
+        f_near = d / Tc
+        w = np.pi * f_near
+        G2 = np.where(w != 0, np.sin(w * T) ** 2 / np.where(w != 0, w, 1.0) ** 2, T * T)
+        out = np.array(out)
+        out[floored] = rest + G2 / np.maximum(np.abs(f_near), np.broadcast_to(floor, floored.shape)[floored]) ** 4
+    return out
+
 
 def finite_pulse_factor(d):
     """Reduction of the fundamental of a CPMG filter by finite pi pulses.

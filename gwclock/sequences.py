@@ -184,16 +184,21 @@ class Periodic:
         return (2 * np.pi * design.nu0) ** 2 * out
 
 
+#: Red power laws whose Ramsey aliasing sum over all harmonics has a closed form (alpha -> function).
+_CLOSED_RED = {-2: filters.ramsey_random_walk_alias, -4: filters.ramsey_walk4_alias}
+
+
 def closed_form_red(term):
     """Whether the Ramsey aliasing sum of a red term has the closed form (random-walk FM, whole band)."""
-    return term.alpha == -2 and not np.any(np.isfinite(term.cutoff)) and not np.any(term.low)
+    return term.alpha in _CLOSED_RED and not np.any(np.isfinite(term.cutoff)) and not np.any(term.low)
 
 
 class Ramsey:
     """Ramsey interrogation (no pi pulse): a low-pass detector, |G| = |sin(pi f T)| / (pi f).
 
     Stationary noise that rises towards low frequency is passed through the exact aliasing sum:
-    in closed form for random-walk FM (:func:`gwclock.filters.ramsey_random_walk_alias`), and
+    in closed form for f^-2 and f^-4 (:func:`gwclock.filters.ramsey_random_walk_alias`,
+    :func:`gwclock.filters.ramsey_walk4_alias`), and
     otherwise over the cycle harmonics m / Tc (|m| <= 16) plus its smooth tail; white and rising
     noise use the smooth (plateau) form.
     """
@@ -254,10 +259,10 @@ class Ramsey:
         if not red:
             return out
         floor = 1.0 / np.asarray(design.duration, dtype=float)
-        # random-walk FM over the whole band: the infinite aliasing sum in closed form
-        walk = [t for t in red if closed_form_red(t)]
-        for term in walk:
-            out = out + term.level * filters.ramsey_random_walk_alias(f0, T, Tc, floor)
+        # f^-2 and f^-4 over the whole band: the infinite aliasing sum in closed form
+        for term in red:
+            if closed_form_red(term):
+                out = out + term.level * _CLOSED_RED[term.alpha](f0, T, Tc, floor)
         red = [t for t in red if not closed_form_red(t)]
         if not red:
             return out

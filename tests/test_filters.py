@@ -209,3 +209,16 @@ def test_ramsey_random_walk_alias_against_a_long_sum(f0, T, Tc):
     fm = f0 + np.arange(-M, M + 1) / Tc
     brute = np.sum((T * np.sinc(fm * T)) ** 2 / np.maximum(np.abs(fm), floor) ** 2) + Tc**4 / (3 * np.pi**2 * M**3)
     assert filters.ramsey_random_walk_alias(f0, T, Tc, floor) == pytest.approx(brute, rel=1e-11)
+
+
+@pytest.mark.parametrize("f0, T, Tc", [(2e-3, 30.0, 33.0), (0.0123, 10.0, 10.0), (3.7, 0.1, 0.2),
+                                       (1.0 / 33.0 + 1e-9, 30.0, 33.0), (1e-9, 100.0, 150.0)])
+def test_ramsey_walk4_alias_against_a_long_sum(f0, T, Tc):
+    # pi^6 [r^2 s^2 - (2r^2/3 + r^4/3) s + 2r^5/15], s = csc^2(pi x), from the same lattice sums
+    # (Abramowitz & Stegun 4.3.92 differentiated twice, from memory) against 2e6 explicit harmonics
+    # plus their analytic tail Tc^6 / (5 pi^2 M^5); the floor bites on the last two cases
+    floor = 1 / 3e7
+    M = 1_000_000
+    fm = f0 + np.arange(-M, M + 1) / Tc
+    brute = np.sum((T * np.sinc(fm * T)) ** 2 / np.maximum(np.abs(fm), floor) ** 4) + Tc**6 / (5 * np.pi**2 * M**5)
+    assert filters.ramsey_walk4_alias(f0, T, Tc, floor) == pytest.approx(brute, rel=1e-9)
