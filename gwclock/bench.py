@@ -37,7 +37,7 @@ def main() -> int:
 
     # (a) envelope per-point cost vs np.sin on the same size
     f = np.geomspace(1e-5, 100, 100_000)
-    t_env = _best_time(lambda: envelope(design, f), repeat=2)
+    t_env = _best_time(lambda: envelope(design, f), repeat=3)
     t_sin = _best_time(lambda: np.sin(f), repeat=20)
     print(f"envelope_cost: {t_env / t_sin:.0f} x np.sin per point ({t_env / f.size * 1e6:.1f} us/point) (target: <= 20 x)")
 
