@@ -214,26 +214,8 @@ def ramsey_random_walk_alias(f0, T, Tc, floor=0.0):
     of the closed form without cancellation and added back with its PSD floored at ``floor``
     (the 1/duration floor of the explicit sums).
     """
-    f0 = np.asarray(f0, dtype=float)
-    T = np.asarray(T, dtype=float)
-    Tc = np.asarray(Tc, dtype=float)
-    x = f0 * Tc
-    d = x - np.round(x)
-    r = T / Tc
-    floored = np.abs(d) < floor * Tc
-    s = np.sin(np.pi * np.where(floored, 0.5, d))
-    out = (np.pi * T * Tc) ** 2 * (1.0 / (s * s) - (2 / 3) * r)
-    if np.any(floored):
-        # the nearest harmonic with its PSD floored: taken out of the closed form without cancellation
-        d, r, T, Tc = (np.broadcast_to(v, out.shape)[floored] for v in (d, r, T, Tc))
-        rest = Tc**4 * np.pi**2 * (r**2 * _csc2_minus_pole(np.pi * d) + r**4 * _sin2_defect(np.pi * r * d)
-                                   - (2 / 3) * r**3)
-        f_near = d / Tc
-        w = np.pi * f_near
-        G2 = np.where(w != 0, np.sin(w * T) ** 2 / np.where(w != 0, w, 1.0) ** 2, T * T)
-        out = np.array(out)
-        out[floored] = rest + G2 / np.maximum(np.abs(f_near), np.broadcast_to(floor, floored.shape)[floored]) ** 2
-    return out
+    return _ramsey_red_alias(2, f0, T, Tc, floor)
+
 
 # Laurent coefficients of csc^2 z - 1/z^2 = c0 + c1 z^2 + c2 z^4 + ... (from the Bernoulli numbers)
 _C0, _C1, _C2, _C3, _C4 = 1 / 3, 1 / 15, 2 / 189, 1 / 675, 2 / 10395
@@ -272,6 +254,14 @@ def ramsey_walk4_alias(f0, T, Tc, floor=0.0):
 
     The harmonic nearest zero is handled as there, with its Laurent poles removed in closed form.
     """
+    return _ramsey_red_alias(4, f0, T, Tc, floor)
+
+
+def _ramsey_red_alias(power, f0, T, Tc, floor):
+    """The lattice sums of :func:`ramsey_random_walk_alias` (power 2) and :func:`ramsey_walk4_alias`
+    (power 4). The harmonic nearest zero frequency, f* = d/Tc with d = x - round(x), is split off
+    only where the floor bites (|f*| < floor): there the closed form minus that harmonic is
+    written without its poles (no cancellation) and the harmonic is added with its PSD floored."""
     f0 = np.asarray(f0, dtype=float)
     T = np.asarray(T, dtype=float)
     Tc = np.asarray(Tc, dtype=float)
@@ -282,18 +272,25 @@ def ramsey_walk4_alias(f0, T, Tc, floor=0.0):
     sn = np.sin(np.pi * np.where(floored, 0.5, d))
     csc2 = 1.0 / (sn * sn)
     r2 = r * r
-    out = np.pi**4 * Tc**6 * (r2 * csc2 * csc2 - (2 * r2 / 3 + r2 * r2 / 3) * csc2
-                              + 2 * r2 * r2 * r / 15)
-    if np.any(floored):
-        d, r, T, Tc = (np.broadcast_to(v, out.shape)[floored] for v in (d, r, T, Tc))
-        r2 = r * r
-        rest = np.pi**4 * Tc**6 * (r2 * _csc4_minus_poles(np.pi * d) - (2 * r2 / 3 + r2 * r2 / 3) * _csc2_minus_pole(np.pi * d)
-                                   + 2 * r2 * r2 * r / 15 - r2**3 * _sin2_defect6(np.pi * r * d))
-        f_near = d / Tc
-        w = np.pi * f_near
-        G2 = np.where(w != 0, np.sin(w * T) ** 2 / np.where(w != 0, w, 1.0) ** 2, T * T)
-        out = np.array(out)
-        out[floored] = rest + G2 / np.maximum(np.abs(f_near), np.broadcast_to(floor, floored.shape)[floored]) ** 4
+    if power == 2:
+        out = (np.pi * T * Tc) ** 2 * (csc2 - (2 / 3) * r)
+    else:
+        out = np.pi**4 * Tc**6 * (r2 * csc2 * csc2 - (2 * r2 / 3 + r2 * r2 / 3) * csc2 + 2 * r2 * r2 * r / 15)
+    if not np.any(floored):
+        return out
+    d, r, T, Tc = (np.broadcast_to(v, out.shape)[floored] for v in (d, r, T, Tc))
+    r2 = r * r
+    z, y = np.pi * d, np.pi * r * d
+    if power == 2:
+        rest = Tc**4 * np.pi**2 * (r2 * _csc2_minus_pole(z) + r2 * r2 * _sin2_defect(y) - (2 / 3) * r2 * r)
+    else:
+        rest = np.pi**4 * Tc**6 * (r2 * _csc4_minus_poles(z) - (2 * r2 / 3 + r2 * r2 / 3) * _csc2_minus_pole(z)
+                                   + 2 * r2 * r2 * r / 15 - r2**3 * _sin2_defect6(y))
+    f_near = d / Tc
+    w = np.pi * f_near
+    G2 = np.where(w != 0, np.sin(w * T) ** 2 / np.where(w != 0, w, 1.0) ** 2, T * T)
+    out = np.array(out)
+    out[floored] = rest + G2 / np.maximum(np.abs(f_near), np.broadcast_to(floor, floored.shape)[floored]) ** power
     return out
 
 
