@@ -198,27 +198,23 @@ def test_odd_harmonic_sums_table_and_closed_form_agree():
         assert filters.odd_harmonic_sum(s, counts) == pytest.approx(want, rel=1e-12)
 
 
-@pytest.mark.parametrize("f0, T, Tc", [(2e-3, 30.0, 33.0), (0.0123, 10.0, 10.0), (3.7, 0.1, 0.2),
-                                       (1.0 / 33.0, 30.0, 33.0), (1e-9, 100.0, 150.0)])
-def test_ramsey_random_walk_alias_against_a_long_sum(f0, T, Tc):
-    # the closed lattice sum pi^4 r^2 [csc^2(pi x) - 2r/3] (from sum_m (x+m)^-2 = pi^2 csc^2(pi x),
-    # Abramowitz & Stegun 4.3.92, from memory) against 4e6 explicit harmonics plus their analytic
-    # tail Tc^4 / (3 pi^2 M^3); the PSD floor 1/(3e7 s) bites on the last two cases
-    floor = 1 / 3e7
-    M = 2_000_000
-    fm = f0 + np.arange(-M, M + 1) / Tc
-    brute = np.sum((T * np.sinc(fm * T)) ** 2 / np.maximum(np.abs(fm), floor) ** 2) + Tc**4 / (3 * np.pi**2 * M**3)
-    assert filters.ramsey_random_walk_alias(f0, T, Tc, floor) == pytest.approx(brute, rel=1e-11)
+# Ramsey lattice sums of f^-power noise: (function, power, explicit harmonics M, tolerance, near-harmonic case)
+_LATTICE = {2: (filters.ramsey_random_walk_alias, 2_000_000, 1e-11, 1.0 / 33.0),
+            4: (filters.ramsey_walk4_alias, 1_000_000, 1e-9, 1.0 / 33.0 + 1e-9)}
 
 
-@pytest.mark.parametrize("f0, T, Tc", [(2e-3, 30.0, 33.0), (0.0123, 10.0, 10.0), (3.7, 0.1, 0.2),
-                                       (1.0 / 33.0 + 1e-9, 30.0, 33.0), (1e-9, 100.0, 150.0)])
-def test_ramsey_walk4_alias_against_a_long_sum(f0, T, Tc):
-    # pi^6 [r^2 s^2 - (2r^2/3 + r^4/3) s + 2r^5/15], s = csc^2(pi x), from the same lattice sums
-    # (Abramowitz & Stegun 4.3.92 differentiated twice, from memory) against 2e6 explicit harmonics
-    # plus their analytic tail Tc^6 / (5 pi^2 M^5); the floor bites on the last two cases
+@pytest.mark.parametrize("power", [2, 4])
+@pytest.mark.parametrize("case", range(5))
+def test_ramsey_red_alias_against_a_long_sum(power, case):
+    # power 2: pi^4 r^2 [csc^2(pi x) - 2r/3]; power 4: pi^6 [r^2 s^2 - (2r^2/3 + r^4/3) s + 2r^5/15],
+    # s = csc^2(pi x); both from sum_m (x+m)^-2 = pi^2 csc^2(pi x) (Abramowitz & Stegun 4.3.92, from
+    # memory) and its derivatives. Against 2M + 1 explicit harmonics plus their analytic tail
+    # Tc^(p+2) / ((p+1) pi^2 M^(p+1)); the PSD floor 1/(3e7 s) bites on the last two cases
+    alias, M, rel, near = _LATTICE[power]
+    f0, T, Tc = [(2e-3, 30.0, 33.0), (0.0123, 10.0, 10.0), (3.7, 0.1, 0.2), (near, 30.0, 33.0),
+                 (1e-9, 100.0, 150.0)][case]
     floor = 1 / 3e7
-    M = 1_000_000
     fm = f0 + np.arange(-M, M + 1) / Tc
-    brute = np.sum((T * np.sinc(fm * T)) ** 2 / np.maximum(np.abs(fm), floor) ** 4) + Tc**6 / (5 * np.pi**2 * M**5)
-    assert filters.ramsey_walk4_alias(f0, T, Tc, floor) == pytest.approx(brute, rel=1e-9)
+    brute = (np.sum((T * np.sinc(fm * T)) ** 2 / np.maximum(np.abs(fm), floor) ** power)
+             + Tc ** (power + 2) / ((power + 1) * np.pi**2 * M ** (power + 1)))
+    assert alias(f0, T, Tc, floor) == pytest.approx(brute, rel=rel)
