@@ -383,6 +383,11 @@ def add_commands(sub, mission_arg, grid_args):
         sp.add_argument("--frequency", help="monochromatic source frequency (with --h0)")
         sp.add_argument("--h0", help="rms strain amplitude of a monochromatic source")
 
+    def schedule_arg(sp):
+        # the choices of gwclock.snr.SCHEDULES, written out so that building the parser imports no engine
+        sp.add_argument("--schedule", choices=("fixed", "track", "best"), default="track",
+                        help="clock schedule: one fixed tuning, retuned along the track, or the best of both")
+
     sp = sub.add_parser("track", help="frequency and characteristic-strain track of an inspiral")
     source_args(sp)
     sp.add_argument("--fmin", default="1e-5 Hz")
@@ -395,7 +400,7 @@ def add_commands(sub, mission_arg, grid_args):
     sp = sub.add_parser("snr", help="SNR of sources in the mission and in reference detectors")
     mission_arg(sp)
     source_args(sp)
-    sp.add_argument("--schedule", choices=("fixed", "track", "best"), default="track")
+    schedule_arg(sp)
     sp.add_argument("--tune", help="fixed tuning (schedule fixed; default: the best)")
     sp.add_argument("--cadence", default="600 s", help="retuning interval (schedule track)")
     sp.add_argument("--overhead", default="0 s", help="time lost per retuning (schedule track)")
@@ -408,7 +413,7 @@ def add_commands(sub, mission_arg, grid_args):
     mission_arg(sp)
     sp.add_argument("--snr", default="8")
     sp.add_argument("--masses", nargs="+", help="source-frame total masses (solar masses)")
-    sp.add_argument("--schedule", choices=("fixed", "track", "best"), default="track")
+    schedule_arg(sp)
     against_args(sp, f"references (default: {' '.join(DEFAULT_AGAINST)})")
     sp.add_argument("--table")
     sp.add_argument("--plot")

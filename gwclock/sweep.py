@@ -115,8 +115,9 @@ def parse_metric(text) -> Metric:
             return Metric(t, "horizon", mass, (f"horizon_z@{mass:g}Msun",), ("",), "high")
         if t.startswith("snr:"):
             rest = t[4:]
+            from .snr import SCHEDULES
             schedule = "track"
-            for s in ("fixed", "track", "best"):
+            for s in SCHEDULES:
                 if rest.endswith(":" + s):
                     rest, schedule = rest[: -len(s) - 1], s
             from .sources import load_sources
