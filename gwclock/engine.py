@@ -149,18 +149,16 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
         if linear is None:
             cm = kind.common_mode(design, noises.laser_terms(design), f0, n, T)
         else:
-            slope, edge = linear["common"]
-            cm = (2 * np.pi * design.nu0) ** 2 * (edge + slope * T)
+            cm = kind.common_mode(design, (), f0, n, T, linear=linear["common"])
         correlated = cm > projection.CORRELATED_THRESHOLD
     else:
         correlated = np.full(shape, design.comparison == "correlated")
     var = projection.phase_variance(design.atom_number, log_c, design.squeezing, correlated)
     inv_G0sq = 1.0 / G0sq
-    out = {"projection": (2 * Tc * inv_G0sq) * (var / (2 * np.pi * design.nu0) ** 2)}
+    out = {"projection": _projection_term(design, Tc, var, G0sq)}
     for name, terms_of in noises.STATIONARY_NOISES.items():
         if linear is not None:
-            slope, edge = linear[name]
-            out[name] = (2 * Tc * inv_G0sq) * (edge + slope * T)
+            out[name] = kind.aliased(design, (), f0, n, T, Tc, linear=linear[name]) * inv_G0sq
             continue
         terms = terms_of(design)
         out[name] = kind.aliased(design, terms, f0, n, T, Tc) * inv_G0sq if terms else np.zeros(shape)
@@ -168,6 +166,11 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
     out.update(log_contrast=np.broadcast_to(log_c, shape), correlated=np.broadcast_to(correlated, shape),
                cycle=Tc, pulses=n, interrogation=T)
     return out
+
+
+def _projection_term(design, Tc, var, G0sq):
+    """Projection part of S_y,eq: ``2 Tc sigma^2 / ((2 pi nu0)^2 |G(f0)|^2)`` (one value per cycle Tc)."""
+    return 2 * Tc * var / ((2 * np.pi * design.nu0) ** 2 * G0sq)
 
 
 def _total(parts):
@@ -265,8 +268,7 @@ def _periodic_wishes(design, kind, f0, linear):
         kappa = projection.correlation_penalty(np.exp(-t_guess / tau_e))
         wishes.append(_continuous_optimum(design, t_qpn, hi, a, b, base * kappa, tau_e))
     if design.comparison == "auto":
-        slope, edge = linear["common"]
-        cm1 = (2 * np.pi * design.nu0) ** 2 * (edge + slope)
+        cm1 = kind.common_mode(design, (), f0, 1.0, 1.0, linear=linear["common"])
         with np.errstate(divide="ignore"):
             t_sw = np.where(cm1 > 0, projection.CORRELATED_THRESHOLD / cm1, hi)
         wishes.append(np.clip(t_sw, lo, hi))
@@ -354,11 +356,8 @@ def _open_red_noise(design):
 def _ramsey_projection_of(design, f0, T):
     """A lower bound of the Ramsey S_y,eq of interrogation T at f0: its projection noise with the
     smaller of the two read-out factors (xi^2 or kappa >= 1), with the engine's own contrast clamp."""
-    Tc = T + design.dead_time
-    G0 = filters.ramsey_filter_modulus(f0, T)
-    inv_c2 = np.exp(np.minimum(2 * T / design.coherence_time, 500.0))
-    xi2 = np.minimum(design.squeezing, 1.0)
-    return 2 * Tc * 2 * xi2 * inv_c2 / design.atom_number / ((2 * np.pi * design.nu0) ** 2 * G0**2)
+    var = projection.phase_variance(design.atom_number, -T / design.coherence_time, np.minimum(design.squeezing, 1.0))
+    return _projection_term(design, T + design.dead_time, var, filters.ramsey_filter_modulus(f0, T) ** 2)
 
 
 def _best_ramsey_pruned(design, f0, n, T, valid):
@@ -505,9 +504,9 @@ def _ramsey_projection_bound(design, f0):
     Td = design.dead_time
     w = np.pi * f0
     cross = np.clip(1.0 / w, lo, hi)  # where 1/T^2 meets (pi f0)^2, inside the range
-    g = np.maximum((cross + Td) / cross**2, (cross + Td) * w**2)
-    xi2 = np.minimum(design.squeezing, 1.0)
-    return 2 * 2 * xi2 / design.atom_number * g / (2 * np.pi * design.nu0) ** 2
+    g = np.maximum((cross + Td) / cross**2, (cross + Td) * w**2)  # the least Tc / |G|^2
+    var = projection.phase_variance(design.atom_number, 0.0, np.minimum(design.squeezing, 1.0))
+    return _projection_term(design, g, var, 1.0)
 
 
 def window_psd(design: Design, tunings, frequency):

@@ -169,15 +169,25 @@ class Periodic:
         slope, edge = self.noise_coefficients(design, term, f0)
         return edge + slope * np.asarray(T, dtype=float)
 
-    def aliased(self, design, terms, f0, n, T, Tc):
-        """sum_m S(|f0 + m/Tc|) |G|^2 in its smooth-noise form 2 Tc integral S |G|^2 df."""
+    def aliased(self, design, terms, f0, n, T, Tc, linear=None):
+        """sum_m S(|f0 + m/Tc|) |G|^2 in its smooth-noise form 2 Tc integral S |G|^2 df.
+
+        ``linear`` = (slope, edge) summed over ``terms`` (from :meth:`noise_coefficients`, same f0)
+        skips recomputing the harmonic sums: the integral is then ``slope * T + edge``."""
+        if linear is not None:
+            slope, edge = linear
+            return 2 * Tc * (edge + slope * T)
         out = 0.0
         for term in terms:
             if np.any(term.level):
                 out = out + self.noise_integral(design, term, f0, n, T)
         return 2 * Tc * out
 
-    def common_mode(self, design, terms, f0, n, T):
+    def common_mode(self, design, terms, f0, n, T, linear=None):
+        """Common-mode laser phase variance (rad^2) through the filter; ``linear`` as in :meth:`aliased`."""
+        if linear is not None:
+            slope, edge = linear
+            return (2 * np.pi * design.nu0) ** 2 * (edge + slope * np.asarray(T, dtype=float))
         out = 0.0
         for term in terms:
             out = out + self.noise_integral(design, term, f0, n, T)
