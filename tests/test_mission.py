@@ -33,11 +33,11 @@ def write(tmp_path, text, name="m.toml"):
 
 def test_minimal_mission_gets_documented_defaults(tmp_path):
     m, digest = load_mission(write(tmp_path, GOOD))
-    assert m.link.transmit_power.to_value(u.W) == pytest.approx(0.04)
-    assert m.coherence_time.to_value(u.s) == pytest.approx(118.0)  # the Sr lifetime preset
-    assert m.max_interrogation.to_value(u.s) == pytest.approx(3 * 118.0)
+    assert m.link.transmit_power.to_value(u.W) == pytest.approx(0.04, rel=1e-12, abs=0)
+    assert m.coherence_time.to_value(u.s) == pytest.approx(118.0, rel=1e-12, abs=0)  # the Sr lifetime preset
+    assert m.max_interrogation.to_value(u.s) == pytest.approx(3 * 118.0, rel=1e-12, abs=0)
     assert m.sequence.kind == "cpmg" and m.sequence.tune == "auto"
-    assert m.observation.duration.to_value(u.yr) == pytest.approx(1.0)
+    assert m.observation.duration.to_value(u.yr) == pytest.approx(1.0, rel=1e-12, abs=0)
     assert len(digest) == 16
 
 
@@ -45,8 +45,8 @@ def test_units_are_converted(tmp_path):
     text = GOOD.replace('"3e10 m"', '"3e7 km"').replace("atom_number = 1e5", 'atom_number = 1e5\ndead_time = "500 ms"')
     m, _ = load_mission(write(tmp_path, text))
     d = m.design()
-    assert d.baseline == pytest.approx(3e10)
-    assert d.dead_time == pytest.approx(0.5)
+    assert d.baseline == pytest.approx(3e10, rel=1e-12, abs=0)
+    assert d.dead_time == pytest.approx(0.5, rel=1e-12, abs=0)
 
 
 @pytest.mark.parametrize("path", MISSIONS, ids=lambda p: p.stem)

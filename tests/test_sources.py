@@ -4,7 +4,7 @@ Truth: Peters (1964, Phys. Rev. 136, B1224) for the chirp; the first binary-blac
 (Abbott et al. 2016, PRL 116, 061102; PRD 93, 122004) for the time spent from 35 Hz to merger;
 astropy's Planck18 cosmology; the published analytic models of the reference detectors
 (Robson, Cornish & Liu 2019; Sathyaprakash & Schutz 2009; Mishra et al. 2010; Yagi & Seto 2011),
-evaluated at the check values listed in PHYSICS.md sec. 8 and 9.
+evaluated at their formulas' values (computed independently with scipy/astropy).
 """
 
 import numpy as np
@@ -26,14 +26,14 @@ class TestInspiral:
 
     def test_cosmology_against_astropy(self):
         # z(D_L = 400 Mpc) = 0.0849182 (astropy 8.0.2, Planck18)
-        assert self.binary().redshift == pytest.approx(0.0849182, rel=1e-5)
+        assert self.binary().redshift == pytest.approx(0.0849182, rel=1e-5, abs=0)
         b = Inspiral.from_masses(30, 30, redshift=1.0)
-        assert b.distance == pytest.approx(Planck18.luminosity_distance(1.0).to_value(u.m), rel=1e-10)
-        assert b.distance / MPC == pytest.approx(6791.27, rel=1e-5)
+        assert b.distance == pytest.approx(Planck18.luminosity_distance(1.0).to_value(u.m), rel=1e-10, abs=0)
+        assert b.distance / MPC == pytest.approx(6791.27, rel=1e-5, abs=0)
 
     def test_chirp_masses(self):
-        assert chirp_mass(30, 30) == pytest.approx(26.11652, rel=1e-6)
-        assert self.binary().chirp_mass / MSUN == pytest.approx(28.33428, rel=1e-5)  # detector frame
+        assert chirp_mass(30, 30) == pytest.approx(26.11652, rel=1e-6, abs=0)
+        assert self.binary().chirp_mass / MSUN == pytest.approx(28.33428, rel=1e-5, abs=0)  # detector frame
 
     @pytest.mark.parametrize("f, tau, fdot, A, h0, hc", [
         (0.01, 5.29331e8, 7.0844e-12, 3.6322e-24, 2.2972e-24, 8.6308e-21),
@@ -42,52 +42,52 @@ class TestInspiral:
         (10.0, 5.29331, 0.70844, 3.6322e-22, 2.2972e-22, 2.7293e-21),
     ])
     def test_check_table(self, f, tau, fdot, A, h0, hc):
-        # PHYSICS.md sec. 9 table: 30+30 Msun at 400 Mpc, Peters (1964) at quadrupole order
+        # quadrupole-order values (computed independently from the formulas): 30+30 Msun at 400 Mpc, Peters (1964) at quadrupole order
         b = self.binary()
-        assert b.time_to_merger(f) == pytest.approx(tau, rel=1e-4)
-        assert b.frequency_derivative(f) == pytest.approx(fdot, rel=1e-4)
-        assert b.amplitude(f) == pytest.approx(A, rel=1e-4)
-        assert b.rms_amplitude(f) == pytest.approx(h0, rel=1e-4)
-        assert b.characteristic_strain(f) == pytest.approx(hc, rel=1e-4)
+        assert b.time_to_merger(f) == pytest.approx(tau, rel=1e-4, abs=0)
+        assert b.frequency_derivative(f) == pytest.approx(fdot, rel=1e-4, abs=0)
+        assert b.amplitude(f) == pytest.approx(A, rel=1e-4, abs=0)
+        assert b.rms_amplitude(f) == pytest.approx(h0, rel=1e-4, abs=0)
+        assert b.characteristic_strain(f) == pytest.approx(hc, rel=1e-4, abs=0)
 
     def test_first_detection_duration(self):
         # GW150914: about 0.2 s from 35 Hz to merger for a detector-frame chirp mass near 30 Msun
         # (Abbott et al. 2016, PRL 116, 061102; PRD 93, 122004); tau(35 Hz) = 0.1704 s
         b = Inspiral("GW150914-like", 30 * MSUN, 70 * MSUN, 410 * MPC)
-        assert b.time_to_merger(35.0) == pytest.approx(0.1704, rel=1e-3)
+        assert b.time_to_merger(35.0) == pytest.approx(0.1704, rel=1e-3, abs=0)
         assert 0.1 < b.time_to_merger(35.0) < 0.3
         src = Inspiral.from_masses(36, 29, redshift=0.09)
-        assert chirp_mass(36, 29) == pytest.approx(28.0956, rel=1e-5)
-        assert src.chirp_mass / MSUN == pytest.approx(30.6, abs=0.05)
+        assert chirp_mass(36, 29) == pytest.approx(28.0956, rel=1e-5, abs=0)
+        assert src.chirp_mass / MSUN == pytest.approx(30.6, rel=2e-3, abs=0)
 
     def test_peters_scalings(self):
         # tau ~ Mc^(-5/3) f^(-8/3) (Peters 1964)
         a = Inspiral("a", 10 * MSUN, 25 * MSUN, MPC)
         b = Inspiral("b", 20 * MSUN, 50 * MSUN, MPC)
-        assert a.time_to_merger(1.0) / b.time_to_merger(1.0) == pytest.approx(2 ** (5 / 3), rel=1e-12)
-        assert a.time_to_merger(1.0) / a.time_to_merger(2.0) == pytest.approx(2 ** (8 / 3), rel=1e-12)
+        assert a.time_to_merger(1.0) / b.time_to_merger(1.0) == pytest.approx(2 ** (5 / 3), rel=1e-12, abs=0)
+        assert a.time_to_merger(1.0) / a.time_to_merger(2.0) == pytest.approx(2 ** (8 / 3), rel=1e-12, abs=0)
         # tau = (3/8) f / fdot, and frequency_at inverts time_to_merger
-        assert a.time_to_merger(0.3) == pytest.approx(0.375 * 0.3 / a.frequency_derivative(0.3), rel=1e-12)
-        assert a.frequency_at(a.time_to_merger(0.3)) == pytest.approx(0.3, rel=1e-12)
+        assert a.time_to_merger(0.3) == pytest.approx(0.375 * 0.3 / a.frequency_derivative(0.3), rel=1e-12, abs=0)
+        assert a.frequency_at(a.time_to_merger(0.3)) == pytest.approx(0.3, rel=1e-12, abs=0)
 
     def test_characteristic_strain_forms_agree(self):
         # h_c = 2 f |h~| = h0 f / sqrt(fdot) (Moore, Cole & Berry 2015)
         b = self.binary()
         f = np.geomspace(1e-3, 10, 7)
-        assert np.allclose(b.characteristic_strain(f), b.rms_amplitude(f) * f / np.sqrt(b.frequency_derivative(f)), rtol=1e-12)
+        np.testing.assert_allclose(b.characteristic_strain(f), b.rms_amplitude(f) * f / np.sqrt(b.frequency_derivative(f)), rtol=1e-12, atol=0)
 
     def test_track_stops_at_last_stable_orbit(self):
         b = self.binary()
         tau, f, hc = b.track(1e-3, 1e4, 50)
-        assert f[-1] == pytest.approx(b.isco_frequency)
+        assert f[-1] == pytest.approx(b.isco_frequency, rel=1e-12, abs=0)
         # f_ISCO = c^3 / (6^(3/2) pi G M), 4400 Hz (M/Msun)^-1 for a point mass (common practice, from memory)
-        assert b.isco_frequency * b.total_mass / MSUN == pytest.approx(4397, rel=1e-3)
+        assert b.isco_frequency * b.total_mass / MSUN == pytest.approx(4397, rel=1e-3, abs=0)
         assert np.all(np.diff(tau) < 0)
 
 
 def test_monochromatic_characteristic_strain():
     m = Monochromatic("gb", 3e-3, 1e-22)
-    assert m.characteristic_strain(3.15576e7) == pytest.approx(1e-22 * np.sqrt(3e-3 * 3.15576e7))
+    assert m.characteristic_strain(3.15576e7) == pytest.approx(1e-22 * np.sqrt(3e-3 * 3.15576e7), rel=1e-12, abs=0)
 
 
 def test_source_files(tmp_path):
@@ -95,8 +95,8 @@ def test_source_files(tmp_path):
     p.write_text('[[source]]\nname = "a"\nmass1 = 30\nmass2 = 30\ndistance = "400 Mpc"\n'
                  '[[source]]\nname = "b"\nfrequency = "3 mHz"\nh0 = 1e-22\n')
     a, b = load_sources(p)
-    assert isinstance(a, Inspiral) and a.redshift == pytest.approx(0.0849182, rel=1e-5)
-    assert isinstance(b, Monochromatic) and b.frequency == pytest.approx(3e-3)
+    assert isinstance(a, Inspiral) and a.redshift == pytest.approx(0.0849182, rel=1e-5, abs=0)
+    assert isinstance(b, Monochromatic) and b.frequency == pytest.approx(3e-3, rel=1e-12, abs=0)
     c = tmp_path / "s.csv"
     c.write_text("name,mass1,mass2,redshift\nx,1e4,1e4,1\n")
     (x,) = load_sources(c)
@@ -111,41 +111,41 @@ class TestReferences:
     @pytest.mark.parametrize("f, sn", [(1e-4, 2.11350e-33), (1e-3, 1.63606e-38), (2e-3, 1.05075e-39),
                                        (1e-2, 1.44926e-40), (1e-1, 2.14823e-39)])
     def test_lisa_instrument(self, f, sn):
-        # Robson, Cornish & Liu 2019 eqs. 10-13 (values from the formula, PHYSICS.md sec. 8)
-        assert lisa_psd(f) == pytest.approx(sn, rel=1e-4)
+        # Robson, Cornish & Liu 2019 eqs. 10-13 (values from the formula)
+        assert lisa_psd(f) == pytest.approx(sn, rel=1e-4, abs=0)
 
     @pytest.mark.parametrize("f, one, four", [(1e-4, 3.1590e-35, 2.8369e-35), (1e-3, 1.6635e-37, 6.6624e-38),
                                               (2e-3, 2.6534e-38, 8.1403e-40)])
     def test_lisa_confusion(self, f, one, four):
         # Robson, Cornish & Liu 2019 eq. 14 with Table 1 (from memory)
-        assert lisa_confusion(f, 1) == pytest.approx(one, rel=1e-4)
-        assert lisa_confusion(f, 4) == pytest.approx(four, rel=1e-4)
-        assert lisa_psd(f, confusion_years=1) == pytest.approx(lisa_psd(f) + one, rel=1e-4)
+        assert lisa_confusion(f, 1) == pytest.approx(one, rel=1e-4, abs=0)
+        assert lisa_confusion(f, 4) == pytest.approx(four, rel=1e-4, abs=0)
+        assert lisa_psd(f, confusion_years=1) == pytest.approx(lisa_psd(f) + one, rel=1e-4, abs=0)
 
     def test_confusion_is_off_by_default_and_vanishes_at_high_frequency(self):
-        assert get_reference("lisa").native(1e-3) == pytest.approx(lisa_psd(1e-3))
+        assert get_reference("lisa").native(1e-3) == pytest.approx(lisa_psd(1e-3), rel=1e-12, abs=0)
         assert lisa_confusion(0.1, 1) == 0.0
 
     @pytest.mark.parametrize("f, asd", [(10, 1.80587e-22), (100, 2.85504e-24), (215, 1.81659e-24), (1000, 1.41564e-23)])
     def test_aligo_fit(self, f, asd):
         # Sathyaprakash & Schutz 2009 fit; at 215 Hz exactly sqrt(33) x 10^-24.5
-        assert np.sqrt(get_reference("aligo").native(f)) == pytest.approx(asd, rel=1e-4)
-        assert np.sqrt(get_reference("aligo").native(215.0)) == pytest.approx(np.sqrt(33) * 10**-24.5, rel=1e-12)
+        assert np.sqrt(get_reference("aligo").native(f)) == pytest.approx(asd, rel=1e-4, abs=0)
+        assert np.sqrt(get_reference("aligo").native(215.0)) == pytest.approx(np.sqrt(33) * 10**-24.5, rel=1e-12, abs=0)
 
     @pytest.mark.parametrize("f, asd", [(1, 5.23485e-21), (10, 5.10859e-24), (100, 2.51800e-25), (1000, 6.48660e-25)])
     def test_et_fit(self, f, asd):
         # Mishra, Arun, Iyer & Sathyaprakash 2010 ET-B fit
-        assert np.sqrt(get_reference("et").native(f)) == pytest.approx(asd, rel=1e-4)
+        assert np.sqrt(get_reference("et").native(f)) == pytest.approx(asd, rel=1e-4, abs=0)
 
     @pytest.mark.parametrize("f, asd", [(0.01, 7.30278e-22), (0.1, 7.76997e-24), (1.0, 2.68056e-24), (10.0, 4.47936e-24)])
     def test_decigo(self, f, asd):
         # Yagi & Seto 2011 eq. 5
-        assert np.sqrt(get_reference("decigo").native(f)) == pytest.approx(asd, rel=1e-4)
+        assert np.sqrt(get_reference("decigo").native(f)) == pytest.approx(asd, rel=1e-4, abs=0)
 
     def test_conventions(self):
         # optimal-orientation PSDs divided by the sky-averaged response: x5/2 (90 deg), x10/3 (60 deg)
-        assert get_reference("aligo").sky_averaged(100.0) == pytest.approx(2.5 * get_reference("aligo").native(100.0))
-        assert get_reference("decigo").sky_factor == pytest.approx(10 / 3)
+        assert get_reference("aligo").sky_averaged(100.0) == pytest.approx(2.5 * get_reference("aligo").native(100.0), rel=1e-12, abs=0)
+        assert get_reference("decigo").sky_factor == pytest.approx(10 / 3, rel=1e-12, abs=0)
         assert get_reference("lisa").sky_factor == 1.0
 
     def test_unknown_reference(self):
@@ -161,7 +161,7 @@ class TestReferences:
         p.write_text("# convention: optimal orientation\nfrequency,asd\n1,1e-23\n10,1e-24\n100,1e-24\n")
         assert user_curve(p).convention == "optimal orientation"
         r = user_curve(bare, convention="optimal")
-        assert r.native(10.0) == pytest.approx(1e-48)
-        assert r.sky_averaged(np.sqrt(10.0)) == pytest.approx(2.5 * 10 ** (-47), rel=1e-9)  # log-log interpolation
+        assert r.native(10.0) == pytest.approx(1e-48, rel=1e-12, abs=0)
+        assert r.sky_averaged(np.sqrt(10.0)) == pytest.approx(2.5 * 10 ** (-47), rel=1e-9, abs=0)  # log-log interpolation
         with pytest.raises(ValueError, match="covers"):
             r.native(1000.0)
