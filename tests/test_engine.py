@@ -164,7 +164,6 @@ class TestBandEdges:
         for x in (0.5, 0.25):
             penalty = self.dd_projection(d, x / self.tau) / plateau
             assert penalty == pytest.approx(x * np.exp(1 / x - 1), rel=1e-6, abs=0)
-        assert 1e-3 < 1 / (2 * self.tau) < 1e-2
 
     def test_pulse_error_high_edge(self):
         # with T re-optimised, S_n grows as (1 + 2 f0 eps' tau): doubled at 1/(2 eps' tau),
@@ -174,7 +173,6 @@ class TestBandEdges:
         d = quiet_design(coherence_time=self.tau, max_interrogation=1e4, pulse_error=eps)
         ep = -np.log1p(-eps)
         f_pe = 1 / (2 * ep * self.tau)
-        assert f_pe == pytest.approx(4.24, rel=3e-3, abs=0)
         f_lo = 0.05
         ratio = self.dd_projection(d, f_pe) / self.dd_projection(d, f_lo)
         assert ratio == pytest.approx(2 / (1 + 2 * f_lo * ep * self.tau), rel=2e-3, abs=0)
@@ -214,11 +212,6 @@ class TestWindow:
 
 
 class TestEnvelope:
-    def test_noise_columns_add_up(self):
-        m, _ = load_mission(None)
-        b = envelope(m.design(), np.geomspace(1e-4, 10, 50))
-        np.testing.assert_allclose(sum(b.psd.values()), b.total, rtol=1e-12, atol=0)
-
     @pytest.mark.parametrize("path", [None, *MISSIONS], ids=lambda p: "default" if p is None else p.stem)
     def test_finite_positive_over_the_whole_range(self, path):
         m, _ = load_mission(path)
@@ -262,3 +255,128 @@ class TestCustomSequence:
         assert a["projection"] == pytest.approx(b["projection"], rel=1e-6, abs=0)
         assert a["acceleration"] == pytest.approx(b["acceleration"], rel=1e-3, abs=0)
         assert a["laser"] == pytest.approx(b["laser"], rel=1e-2, abs=0)
+
+
+def _lattice(f0, Tc, M):
+    """|f0 + m/Tc| for |m| <= M (the cycle harmonics of the aliasing sum)."""
+    fm = np.abs(f0 + np.arange(-M, M + 1) / Tc)
+    return np.where(fm == 0, 1e-300, fm)
+
+
+class TestEnvelopeAliasing:
+    """The envelope's noise at its chosen sequence against the brute-force aliasing sum
+    sum_m S_y(|f0 + m/Tc|) |G(f0 + m/Tc)|^2 / |G(f0)|^2 (the Dick-effect sampling picture of
+    Santarelli et al. 1998, IEEE UFFC 45, 887; Poisson summation makes it exact for white noise)."""
+
+    f0 = 0.05
+
+    def chosen(self, d):
+        b = envelope(d, np.array([self.f0]))
+        n, T, Tc = b.pulses[0], b.interrogation[0], b.cycle[0]
+        return b, n, T, Tc, link_response(self.f0, d.baseline) * engine.signal_response(d, [self.f0])[0] \
+            / link_response(self.f0, d.baseline)
+
+    def brute(self, d, kind, S, n, T, Tc, M=200_000):
+        fm = _lattice(self.f0, Tc, M)
+        G2 = kind.modulus(d, fm, n, T) ** 2
+        return np.sum(S(fm) * G2) / kind.modulus(d, self.f0, n, T) ** 2
+
+    def test_white_frequency_noise_of_a_dd_sequence(self):
+        # the laser's white FM through a gain mismatch eps: S_y = eps^2 Delta_nu / (pi nu0^2)
+        d = quiet_design(linewidth=1.0, gain_mismatch=1e-2, dead_time=10.0, atom_number=1e4)
+        b, n, T, Tc, R = self.chosen(d)
+        assert n > 0
+        level = 1e-4 * 1.0 / (np.pi * d.nu0**2)
+        brute = self.brute(d, CPMG, lambda f: level + 0 * f, n, T, Tc)
+        assert b.psd["laser"][0] * R == pytest.approx(brute, rel=2e-4, abs=0)
+
+    def test_random_walk_noise_of_a_dd_sequence(self):
+        d = quiet_design(acceleration_noise=3e-15, dead_time=2.0, atom_number=1e4)
+        b, n, T, Tc, R = self.chosen(d)
+        assert n > 0
+        level = 2 * (3e-15) ** 2 / ((2 * np.pi) ** 2 * 299792458.0**2)
+        brute = self.brute(d, CPMG, lambda f: level / f**2, n, T, Tc)
+        assert b.psd["acceleration"][0] * R == pytest.approx(brute, rel=2e-2, abs=0)
+
+
+class TestRamseyAliasing:
+    """Ramsey's aliasing sum for white, rising and flicker noise against explicit lattice sums
+    (Santarelli et al. 1998, IEEE UFFC 45, 887; Dick 1987, PTTI 19, 133, from memory)."""
+
+    def ramsey(self, d, f0, T, Tc, S, M=400_000, floor=0.0):
+        fm = _lattice(f0, Tc, M)
+        G2 = (T * np.sinc(fm * T)) ** 2
+        return np.sum(S(np.maximum(fm, floor)) * G2) / (T * np.sinc(f0 * T)) ** 2
+
+    def test_white_frequency_noise(self):
+        d = quiet_design(linewidth=1.0, gain_mismatch=1e-2, dead_time=3.0)
+        f0, T = 2e-3, 30.0
+        got = evaluate(d, RAMSEY, f0, 0, T)["laser"]
+        level = 1e-4 / (np.pi * d.nu0**2)
+        assert got == pytest.approx(self.ramsey(d, f0, T, T + 3.0, lambda f: level + 0 * f), rel=1e-4, abs=0)
+
+    def test_white_phase_noise_up_to_the_lock(self):
+        # shot noise: white PM S_y = (f/nu0)^2 S_phi inside the phase lock (B = 2 Hz), the loop's
+        # (B/f)^2 of it above (white FM), both cut at the pulse bandwidth 1/(2 t_pi) = 10 Hz
+        d = quiet_design(transmit_power=1e-3, phase_lock_bandwidth=2.0, dead_time=3.1, pi_pulse_duration=0.05)
+        f0, T = 2e-3, 30.0
+        Tc = T + 3.1
+        got = evaluate(d, RAMSEY, f0, 0, T)["shot"]
+        from gwclock import noises
+        level = noises.shot_terms(d)[0].level
+        S = lambda f: np.where(f <= 2.0, level * f**2, np.where(f <= 10.0, level * 4.0, 0.0))  # noqa: E731
+        assert got == pytest.approx(self.ramsey(d, f0, T, Tc, S, M=2000), rel=3e-2, abs=0)
+
+    def test_flicker_noise_above_sixteen_harmonics(self):
+        # flicker FM (gain mismatch of the flicker floor) at f0 > 16/Tc: the explicit window must
+        # sit where the red noise is, at the lattice member nearest zero, floored at 1/duration
+        d = quiet_design(flicker_floor=4e-17, gain_mismatch=1e-2, dead_time=1.0)
+        T, Tc = 4.0, 5.0
+        f0 = 20.5 / T
+        h = 1e-4 * (4e-17) ** 2 / (2 * np.log(2))
+        got = evaluate(d, RAMSEY, f0, 0, T)["laser"]
+        brute = self.ramsey(d, f0, T, Tc, lambda f: h / f, M=2_000_000, floor=1.0 / d.duration)
+        assert got == pytest.approx(brute, rel=2e-2, abs=0)
+
+    def test_common_mode_phase_of_white_and_flicker_noise(self):
+        # (2 pi nu0)^2 integral S_y |G|^2 df: Parseval gives S T / 2 for white FM; flicker by quadrature
+        # from 1/duration (scipy)
+        from scipy import integrate
+        from gwclock import noises
+        d = quiet_design(linewidth=0.1)
+        T = 7.0
+        white = RAMSEY.common_mode(d, noises.laser_terms(d)[:1], 1e-3, 0, T)
+        assert white == pytest.approx((2 * np.pi * d.nu0) ** 2 * 0.1 / (np.pi * d.nu0**2) * T / 2, rel=1e-12, abs=0)
+        h = 1e-34
+        d2 = quiet_design(flicker_floor=np.sqrt(2 * np.log(2) * h))
+        flick = RAMSEY.common_mode(d2, noises.laser_terms(d2)[1:], 1e-3, 0, T)
+        lo = 1.0 / d2.duration
+        u_lo = lo * T
+        head = integrate.quad(lambda u: np.sinc(u) ** 2 / u, u_lo, 1.0, limit=400)[0]
+        tail = integrate.quad(lambda u: 1.0 / (2 * np.pi**2 * u**3), 1.0, np.inf)[0] \
+            - integrate.quad(lambda u: u**-3.0, 1, np.inf, weight="cos", wvar=2 * np.pi)[0] / (2 * np.pi**2)
+        expected = (2 * np.pi * d2.nu0) ** 2 * h * T**2 * (head + tail)
+        assert flick == pytest.approx(expected, rel=1e-6, abs=0)
+
+
+class TestReadout:
+    def test_auto_switches_to_the_correlated_readout_at_a_quarter_radian_squared(self):
+        # common practice, no source: above 0.25 rad^2 of common-mode laser phase (a contrast loss
+        # of 1 - exp(-1/8) = 12 %) the linear read-out fails; for white FM through Ramsey the
+        # excursion is (2 pi nu0)^2 S_y T / 2 = 2 pi Delta_nu T (Parseval), so it crosses at
+        # T* = 0.25 / (2 pi Delta_nu)
+        d = quiet_design(linewidth=1e-3, comparison="auto")
+        T_star = 0.25 / (2 * np.pi * 1e-3)
+        below = evaluate(d, RAMSEY, 1e-4, 0, 0.98 * T_star)["correlated"]
+        above = evaluate(d, RAMSEY, 1e-4, 0, 1.02 * T_star)["correlated"]
+        assert not below and above
+
+    def test_xy8_contrast_is_one_minus_eps_squared_per_pulse(self):
+        # phase-cycled XY-8 cancels pulse errors to first order; the model keeps (1 - eps^2)^n (an
+        # assumption, after Souza, Alvarez & Suter 2012, Phil. Trans. R. Soc. A 370, 4748, from memory)
+        eps, tau, T, n = 1e-2, 118.0, 40.0, 64
+        d = quiet_design(pulse_error=eps, coherence_time=tau)
+        got = evaluate(d, SEQUENCES["xy8"], n / (2 * T), n, T)["log_contrast"]
+        assert got == pytest.approx(-T / tau + n * np.log(1 - eps**2), rel=1e-12, abs=0)
+        cpmg = evaluate(d, CPMG, n / (2 * T), n, T)["log_contrast"]
+        assert cpmg == pytest.approx(-T / tau + n * np.log(1 - eps), rel=1e-12, abs=0)

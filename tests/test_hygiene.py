@@ -89,3 +89,12 @@ def test_tests_cite_papers_not_a_file_outside_the_repository():
     cited = [f"{p.name}:{i}" for p in SOURCES if p.name != Path(__file__).name
              for i, line in enumerate(p.read_text().splitlines(), 1) if "PHYSICS.md" in line]
     assert not cited, "cite the paper (authors, year, journal, equation) instead: " + ", ".join(cited)
+
+
+def test_mutant_catalogue_matches_the_code():
+    # every snippet of tests/mutants.toml occurs exactly once in its module (else `make mutants`
+    # would test nothing for it)
+    from . import mutants
+    catalogue = mutants.load()
+    assert len(catalogue) >= 40
+    assert not mutants.stale(catalogue)

@@ -128,6 +128,15 @@ class TestAcceleration:
         s = noises.psd(noises.acceleration_terms(d), f) / link_response(f, d.baseline)
         assert s == pytest.approx(15 * (3e-15) ** 2 / (16 * np.pi**4 * f**4 * 3e10**2), rel=1e-6, abs=0)
 
+    def test_low_frequency_corner(self):
+        # S_a = a^2 [1 + (f_c/f)^2] per test mass (the shape of the LISA requirement used by
+        # Robson, Cornish & Liu 2019, eq. 11): the PSD doubles at f = f_c and is x101 at f_c/10
+        d = quiet_design(acceleration_noise=3e-15, acceleration_corner=4e-4)
+        flat = quiet_design(acceleration_noise=3e-15)
+        for f, factor in ((4e-4, 2.0), (4e-5, 101.0), (4e-2, 1.0001)):
+            ratio = noises.psd(noises.acceleration_terms(d), f) / noises.psd(noises.acceleration_terms(flat), f)
+            assert ratio == pytest.approx(factor, rel=1e-12, abs=0)
+
     def test_pathfinder_per_test_mass(self):
         # LISA Pathfinder measured 5.2 fm s^-2 Hz^-1/2 for two test masses (Armano et al. 2016,
         # PRL 116, 231101): per test mass 5.2/sqrt(2) = 3.68 if equal and independent.

@@ -78,6 +78,28 @@ def test_spec_artists(tmp_path, form, curves):
     assert len(prov["missions"]) == 2 and len(digest) == 16
 
 
+@pytest.mark.parametrize("form", ["asd", "hc", "omega"])
+def test_curve_values_in_each_form(tmp_path, form):
+    # the drawn mission curve against the envelope converted by hand: ASD = sqrt(S_n); noise
+    # characteristic strain h_n = sqrt(f S_n) (Moore, Cole & Berry 2015, CQG 32, 015014);
+    # Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) for a sky-averaged S_n (Thrane & Romano 2013, PRD 88,
+    # 124032, with the single-detector factor 2 of P_n / Gamma), H0 from astropy's Planck18
+    import numpy as np
+    from astropy.cosmology import Planck18
+
+    from gwclock.engine import envelope
+    from gwclock.mission import load_mission
+    spec, _ = load_spec(spec_file(tmp_path, form))
+    fig, artists, _ = render_spec(spec, base_dir=tmp_path)
+    line = artists["curves"][0]
+    f, y = (np.asarray(v, dtype=float) for v in line.get_data())
+    m, _ = load_mission(None)
+    s = envelope(m.design(), f).total
+    H0 = Planck18.H0.to_value("1/s")
+    want = {"asd": np.sqrt(s), "hc": np.sqrt(f * s), "omega": 4 * np.pi**2 * f**3 * s / (3 * H0**2)}[form]
+    np.testing.assert_allclose(y, want, rtol=1e-12, atol=0)
+
+
 def test_every_output_type_with_provenance(tmp_path, capsys):
     p = spec_file(tmp_path)
     for suffix in (".png", ".pdf", ".svg"):

@@ -122,3 +122,16 @@ def test_phase_lock_transfer_half_power_at_bandwidth():
     # first-order loop: |H|^2 = 1/2 at the bandwidth (analytic)
     assert phase_lock_transfer(10.0, 10.0) == pytest.approx(0.5, rel=1e-12, abs=0)
     assert phase_lock_transfer(1e-3, 10.0) == pytest.approx(1.0, rel=1e-7, abs=0)
+
+
+def test_phase_lock_transfer_of_a_first_order_loop():
+    # a single-pole loop of bandwidth B: |H|^2 = 1/(1 + (f/B)^2) (half power at B; common practice,
+    # no source), applied to the signal response of the engine
+    from gwclock.engine import signal_response
+    from gwclock.response import phase_lock_transfer
+    from .conftest import quiet_design
+    np.testing.assert_allclose(phase_lock_transfer([10.0, 100.0, 1.0], 10.0), [0.5, 1 / 101, 1 / 1.01], rtol=1e-14, atol=0)
+    d = quiet_design(phase_lock_bandwidth=3.0)
+    f = np.array([0.3, 3.0, 30.0])
+    np.testing.assert_allclose(signal_response(d, f) / link_response(f, d.baseline), 1 / (1 + (f / 3.0) ** 2),
+                               rtol=1e-12, atol=0)

@@ -201,3 +201,57 @@ def test_parse_vary_units():
     assert a.unit == "m"
     with pytest.raises(InputError):
         parse_vary("link.baseline=-1 m:1 m:3:log", m)
+
+
+class TestStudyMetrics:
+    """Each sweep metric against an independent value: the defining equation solved or evaluated
+    directly through the library (root of shot = projection, SNR at the reported horizon, the
+    matched-filter SNR of a monochromatic source, the envelope at the band edges)."""
+
+    def table(self, tmp_path, capsys, metric, mission=None, vary="clock.atom_number=1e5:1e6:2:log"):
+        p = tmp_path / "m.ecsv"
+        argv = ["sweep"] + ([mission] if mission else []) + ["--vary", vary, "--metric", metric, "--table", p]
+        assert run(argv, capsys)[0] == 0
+        return QTable.read(p)
+
+    def designs(self, t, mission=None):
+        m, _ = load_mission(mission)
+        return [m.clone(**{"clock.atom_number": float(N)}).design() for N in t["clock.atom_number"]]
+
+    def test_power_needed_is_where_shot_equals_projection(self, tmp_path, capsys):
+        t = self.table(tmp_path, capsys, "power_needed@1 Hz")
+        for d, p in zip(self.designs(t), np.asarray(t["power_needed@1Hz"].value)):
+            b = envelope(d.replace(transmit_power=float(p)), np.array([1.0]))
+            assert b.psd["shot"][0] / b.psd["projection"][0] == pytest.approx(1.0, rel=1e-6, abs=0)
+
+    def test_horizon_is_where_the_tracked_snr_is_eight(self, tmp_path, capsys):
+        from gwclock.snr import TunedCurve, clock_snr
+        from gwclock.sources import Inspiral
+        from gwclock.sweep import BAND_GRID
+        t = self.table(tmp_path, capsys, "horizon:2e4")
+        for d, z in zip(self.designs(t), np.asarray(t["horizon_z@20000Msun"], dtype=float)):
+            src = Inspiral.from_masses(1e4, 1e4, redshift=float(z))
+            snr = clock_snr(TunedCurve(d, BAND_GRID[0], BAND_GRID[-1], BAND_GRID.size), src, "track").snr
+            assert snr == pytest.approx(8.0, rel=1e-4, abs=0)
+
+    def test_snr_of_a_monochromatic_source_file(self, tmp_path, capsys):
+        # SNR = h0 sqrt(T_obs / S_n(f)) at the envelope (matched filter, Robson, Cornish & Liu 2019)
+        src = tmp_path / "gb.csv"
+        src.write_text("name,frequency,h0\ngb,20 mHz,1e-21\n")
+        t = self.table(tmp_path, capsys, f"snr:{src}:fixed")
+        for d, snr in zip(self.designs(t), np.asarray(t["snr[fixed]:gb"], dtype=float)):
+            s = envelope(d, np.array([0.02])).total[0]
+            assert snr == pytest.approx(1e-21 * np.sqrt(d.duration / s), rel=1e-9, abs=0)
+
+    def test_band_edges_bracket_the_level(self, tmp_path, capsys):
+        from gwclock.sweep import BAND_GRID
+        level = 3e-18
+        t = self.table(tmp_path, capsys, f"band@{level:g}")
+        for d, lo, hi in zip(self.designs(t), np.asarray(t[f"band_low@{level:g}"].value),
+                             np.asarray(t[f"band_high@{level:g}"].value)):
+            asd = envelope(d, BAND_GRID).asd
+            inside = BAND_GRID[asd <= level]
+            assert lo == inside.min() and hi == inside.max()
+            step = BAND_GRID[1] / BAND_GRID[0]
+            edges = envelope(d, np.array([lo / step, lo, hi, hi * step])).asd
+            assert edges[0] > level >= edges[1] and edges[2] <= level < edges[3]
