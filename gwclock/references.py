@@ -186,7 +186,8 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
     if "frequency" not in t.colnames:
         raise InputError("missing column 'frequency'", source=str(p), field="frequency")
     if "asd" in t.colnames:
-        y = np.asarray(t["asd"], dtype=float) ** 2
+        asd = np.asarray(t["asd"], dtype=float)
+        y = np.where(asd > 0, asd, np.nan) ** 2  # a negative ASD is an error, not its square
     elif "psd" in t.colnames:
         y = np.asarray(t["psd"], dtype=float)
     else:

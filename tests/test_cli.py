@@ -170,6 +170,52 @@ def test_snr_horizon_background_commands(tmp_path, capsys):
     assert "assumption" in b.meta and "omega_pi_lisa" in b.colnames
 
 
+def test_study_commands_against_independent_values(tmp_path, capsys):
+    # snr: a monochromatic source in LISA, SNR = h0 sqrt(T / S_n) (Robson, Cornish & Liu 2019,
+    # eqs. 10-13 for S_n); horizon: LISA's SNR at the printed redshift is the threshold;
+    # background: Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) with Planck18's H0 (Thrane & Romano 2013)
+    from astropy.cosmology import Planck18
+
+    from gwclock.references import lisa_psd
+    from gwclock.snr import reference_snr
+    from gwclock.references import get_reference
+    from gwclock.sources import Inspiral
+    T = 3.15576e7
+    assert run(["snr", "--frequency", "3 mHz", "--h0", "1e-21", "--against", "lisa", "--table", tmp_path / "s.ecsv",
+                "--observation", "1 yr"], capsys)[0] == 0
+    t = QTable.read(tmp_path / "s.ecsv")
+    lisa_row = [r for r in t if r["detector"] == "LISA"][0]
+    assert float(lisa_row["snr"]) == pytest.approx(1e-21 * np.sqrt(T / lisa_psd(3e-3)), rel=1e-9, abs=0)
+    assert run(["horizon", "--masses", "2e5", "--against", "lisa", "--table", tmp_path / "h.ecsv"], capsys)[0] == 0
+    z = float(QTable.read(tmp_path / "h.ecsv")["z_lisa"][0])
+    src = Inspiral.from_masses(1e5, 1e5, redshift=z)
+    assert reference_snr(get_reference("lisa"), src, T).snr == pytest.approx(8.0, rel=1e-4, abs=0)
+    assert run(["background", "--points", 40, "--table", tmp_path / "b.ecsv", "--plot", tmp_path / "b.png"],
+               capsys)[0] == 0
+    b = QTable.read(tmp_path / "b.ecsv")
+    f = np.asarray(b["frequency"], dtype=float)
+    sn = envelope(load_mission(None)[0].design(), f).total
+    H0 = Planck18.H0.to_value("1/s")
+    np.testing.assert_allclose(np.asarray(b["omega_n_clock"], dtype=float), 4 * np.pi**2 * f**3 * sn / (3 * H0**2),
+                               rtol=1e-9, atol=0)
+
+
+def test_listing_commands(capsys):
+    code, out, _ = run(["references"], capsys)
+    assert code == 0
+    for key in ("lisa", "aligo", "et", "decigo"):
+        assert key in out
+    assert "Robson, Cornish & Liu 2019" in out
+    code, out, _ = run(["species"], capsys)
+    assert code == 0 and "Sr87" in out and "CIPM" in out
+
+
+def test_reference_and_track_figures(tmp_path, capsys):
+    assert run(["reference", "lisa", "--confusion", "1", "--fmin", "1e-4", "--fmax", "0.1", "--points", 20,
+                "--plot", tmp_path / "r.png"], capsys)[0] == 0
+    assert (tmp_path / "r.png").read_bytes()[:4] == b"\x89PNG"
+
+
 @pytest.mark.parametrize("argv, fragment", [
     (["snr"], "give --source FILE"),
     (["snr", "--mass1", "30", "--mass2", "30"], "exactly one of --distance and --redshift"),
@@ -177,6 +223,11 @@ def test_snr_horizon_background_commands(tmp_path, capsys):
     (["snr", "--mass1", "30", "--mass2", "30", "--redshift", "1", "--against", "virgo"], "unknown reference"),
     (["reference", "lisa", "--confusion", "3"], "--confusion"),
     (["background", "--scan", "1 Hz:0.1 Hz:3"], "--scan"),
+    (["background", "--scan", "1 Hz"], "F1:F2:COUNT"),
+    (["snr", "--frequency", "3 mHz"], "--h0"),
+    (["snr", "--frequency", "3 mHz", "--h0", "big"], "plain number"),
+    (["snr", "--frequency", "3 mHz", "--h0", "-1"], "--h0"),
+    (["reference", "lisa", "--confusion", "many"], "--confusion"),
     (["track", "--mass1", "30", "--mass2", "30", "--redshift", "0.1", "--fmin", "1e3", "--fmax", "1e4"], "does not radiate"),
 ])
 def test_bad_science_command_lines(tmp_path, monkeypatch, capsys, argv, fragment):

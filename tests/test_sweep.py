@@ -186,6 +186,29 @@ def test_scan_command(tmp_path, capsys):
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--workers", "0"], "--workers"),
     (["require", "--target", "asd@1 Hz<1e-19", "--vary", "clock.atom_number"], "--target"),
     (["scan", "--from", "1 Hz", "--to", "0.1 Hz"], "--from below --to"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--vary", "clock.atom_number=1e3:1e5:2", "--metric",
+      "asd@1 Hz"], "varied once"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--workers", "2", "--scheduler",
+      "tcp://127.0.0.1:1"], "either --workers or --scheduler"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "clock.atom_number=0.1",
+      "--samples", "1"], "--samples"),
+    (["sweep", "--vary", "clock.atom_numbr=1e3:1e4:3", "--metric", "asd@1 Hz"], "no such mission field"),
+    (["sweep", "--vary", "clock.species=1:2:3", "--metric", "asd@1 Hz"], "only numeric fields"),
+    (["sweep", "--vary", "clock.atom_number", "--metric", "asd@1 Hz"], "FIELD=START:STOP:COUNT"),
+    (["sweep", "--vary", "clock.atom_number=1:2:3:cubic", "--metric", "asd@1 Hz"], "FIELD=START:STOP:COUNT"),
+    (["sweep", "--vary", "clock.atom_number=1:2:three", "--metric", "asd@1 Hz"], "whole number"),
+    (["sweep", "--vary", "clock.atom_number=1:2:0", "--metric", "asd@1 Hz"], "between 1 and 1e6"),
+    (["sweep", "--vary", "link.baseline=1e9:1e10:3", "--metric", "asd@1 Hz"], "missing unit"),
+    (["sweep", "--vary", "clock.atom_number=-1:2:3:log", "--metric", "asd@1 Hz"], "positive ends"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "band@-1"], "--metric"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "horizon:-5"], "--metric"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "clock.atom_number"],
+     "FIELD=REL_SIGMA"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "clock.atom_number=2"],
+     "REL_SIGMA"),
+    (["require", "--target", "band@1e-18<=1", "--vary", "clock.atom_number"], "one value"),
+    (["require", "--target", "asd@1 Hz<=1e-19", "--vary", "link.baseline", "--bounds", "1e9:1e10"], "--bounds"),
+    (["require", "--target", "asd@1 Hz<=1e-19", "--vary", "clock.atom_number", "--bounds", "5:1"], "0 < LO < HI"),
 ])
 def test_bad_study_command_lines(tmp_path, monkeypatch, capsys, argv, fragment):
     monkeypatch.chdir(tmp_path)
@@ -255,3 +278,40 @@ class TestStudyMetrics:
             step = BAND_GRID[1] / BAND_GRID[0]
             edges = envelope(d, np.array([lo / step, lo, hi, hi * step])).asd
             assert edges[0] > level >= edges[1] and edges[2] <= level < edges[3]
+
+
+def test_require_command_finds_the_atom_number(quiet, capsys):
+    # quantum projection noise: ASD ~ N^-1/2 (Itano et al. 1993, PRA 47, 3554) predicts the answer
+    # from one evaluation; the command prints it
+    code, out, _ = run(["require", quiet, "--target", "asd@0.05 Hz<=1e-19", "--vary", "clock.atom_number",
+                        "--bounds", "1e3:1e10"], capsys)
+    assert code == 0 and "smallest clock.atom_number" in out
+    value = float(out.split(":")[-1].split()[0])
+    m, _ = load_mission(quiet)
+    a = np.sqrt(envelope(m.design(), np.array([0.05])).total[0])
+    assert value == pytest.approx(1e5 * (a / 1e-19) ** 2, rel=1e-4, abs=0)
+    code, out, _ = run(["require", quiet, "--target", "asd@0.05 Hz<=1e-40", "--vary", "clock.atom_number"], capsys)
+    assert code == 1 and "cannot be reached" in out
+
+
+def test_monte_carlo_of_a_fixed_design_has_no_spread(tmp_path, capsys):
+    # perturbing a field the metric does not depend on leaves every sample equal to the nominal
+    # value (median = 5 % = 95 %); perturbing N spreads the ASD as N^-1/2 (Itano et al. 1993)
+    p = tmp_path / "mc.ecsv"
+    assert run(["sweep", "--vary", "clock.atom_number=1e4:1e5:2:log", "--metric", "asd@0.05 Hz", "--perturb",
+                "observation.duration=0.3", "--samples", "8", "--seed", "3", "--table", p, "--plot",
+                tmp_path / "mc.png", "--quiet"], capsys)[0] == 0
+    t = QTable.read(p)
+    m, _ = load_mission(None)
+    for row in t:
+        d = m.clone(**{"clock.atom_number": float(row["clock.atom_number"])}).design()
+        nominal = np.sqrt(envelope(d, np.array([0.05])).total[0])
+        for col in ("asd@0.05Hz", "asd@0.05Hz_p05", "asd@0.05Hz_p95"):
+            assert float(np.asarray(row[col].value if hasattr(row[col], "value") else row[col])) == \
+                pytest.approx(nominal, rel=1e-12, abs=0)
+
+
+def test_scan_writes_a_figure(tmp_path, capsys):
+    assert run(["scan", "--from", "10 mHz", "--to", "1 Hz", "--steps", 3, "--points", 60, "--plot",
+                tmp_path / "s.png"], capsys)[0] == 0
+    assert (tmp_path / "s.png").read_bytes()[:4] == b"\x89PNG"

@@ -1,0 +1,183 @@
+"""User files other than missions: curve files, source lists, quantities and figure specs.
+
+Truth: the documented file formats of the README (one bad file per failure mode, a clear error
+naming the file and the field); the values read back are checked against the published
+relations they carry (a monochromatic binary's h0 = sqrt(2/5) A of Robson, Cornish & Liu 2019,
+with A of Peters 1964; the log-log interpolation of a power law is exact).
+"""
+
+import numpy as np
+import pytest
+from astropy import constants as const
+
+from gwclock.errors import InputError
+from gwclock.figspec import load_spec, render_spec
+from gwclock.quantities import parse_quantity
+from gwclock.references import user_curve
+from gwclock.sources import MPC, Inspiral, Monochromatic, load_sources
+
+CURVE_HEAD = "# convention: optimal orientation\n"
+
+
+@pytest.mark.parametrize("name, text, fragment", [
+    ("c.txt", "frequency,asd\n1,1\n", "expected a .csv or .ecsv"),
+    ("c.csv", CURVE_HEAD + "f,asd\n1,1e-23\n10,1e-24\n", "missing column 'frequency'"),
+    ("c.csv", CURVE_HEAD + "frequency,noise\n1,1e-23\n10,1e-24\n", "column 'asd' or 'psd'"),
+    ("c.csv", CURVE_HEAD + "frequency,asd\n10,1e-23\n1,1e-24\n", "strictly increasing"),
+    ("c.csv", CURVE_HEAD + "frequency,asd\n1,1e-23\n", "strictly increasing"),
+    ("c.csv", CURVE_HEAD + "frequency,asd\n1,-1e-23\n10,1e-24\n", "positive and finite"),
+    ("c.csv", CURVE_HEAD + "frequency,psd\n1,0\n10,1e-48\n", "positive and finite"),
+    ("c.csv", "# convention: upside down\nfrequency,asd\n1,1e-23\n10,1e-24\n", "declare the convention"),
+    ("c.ecsv", "this is not an ECSV table\n", "cannot read the curve"),
+])
+def test_bad_curve_files(tmp_path, name, text, fragment):
+    p = tmp_path / name
+    p.write_text(text)
+    with pytest.raises(InputError, match=fragment) as err:
+        user_curve(p)
+    assert str(p) in str(err.value)
+
+
+def test_missing_curve_file(tmp_path):
+    with pytest.raises(InputError, match="not found"):
+        user_curve(tmp_path / "absent.csv")
+
+
+def test_curve_in_mhz_and_psd_interpolates_a_power_law_exactly(tmp_path):
+    # an f^-2 PSD tabulated at two points: log-log interpolation is exact in between
+    p = tmp_path / "c.ecsv"
+    from astropy.table import QTable
+    import astropy.units as u
+    t = QTable({"frequency": [1.0, 100.0] * u.mHz, "psd": [1e-36, 1e-40] * u.Hz**-1})
+    t.meta["convention"] = "sky-averaged"
+    t.write(p)
+    r = user_curve(p)
+    assert r.sky_factor == 1.0 and r.band == pytest.approx((1e-3, 0.1), rel=1e-12, abs=0)
+    assert r.sky_averaged(1e-2) == pytest.approx(1e-38, rel=1e-9, abs=0)
+
+
+@pytest.mark.parametrize("text, fragment", [
+    ("[[source]]\nname = 'x'\nmass1 = 10\n", "mass2"),
+    ("[[source]]\nmass1 = 10\nmass2 = 10\n", "exactly one of distance and redshift"),
+    ("[[source]]\nmass1 = 10\nmass2 = 10\nredshift = 1\ndistance = '1 Gpc'\n", "exactly one"),
+    ("[[source]]\nmass1 = 'ten'\nmass2 = 10\nredshift = 1\n", "plain number"),
+    ("[[source]]\nmass1 = -3\nmass2 = 10\nredshift = 1\n", "> 0"),
+    ("[[source]]\nmass1 = 10\nmass2 = 10\nredshift = 1\nspin = 0.5\n", "unknown key"),
+    ("[[source]]\nmass1 = 10\nmass2 = 10\ndistance = '-1 Mpc'\n", "positive distance"),
+    ("[[source]]\nfrequency = '-3 mHz'\nh0 = 1e-22\n", "positive frequency"),
+    ("[[source]]\nfrequency = '3 m'\nh0 = 1e-22\n", "frequency"),
+    ("[[source]]\nfrequency = '3 mHz'\n", "mass1"),
+    ("[[sources]]\nmass1 = 10\n", "unknown key"),
+    ("title = 'no sources'\n", "unknown key"),
+    ("source = 3\n", "[[source]]"),
+])
+def test_bad_source_files(tmp_path, text, fragment):
+    p = tmp_path / "s.toml"
+    p.write_text(text)
+    with pytest.raises(InputError, match=fragment.replace("[", r"\[").replace("]", r"\]")):
+        load_sources(p)
+
+
+@pytest.mark.parametrize("name, text, fragment", [
+    ("s.csv", "name,mass1\n", "no source rows"),
+    ("s.txt", "name\n", "expected a .toml or .csv"),
+])
+def test_bad_source_tables(tmp_path, name, text, fragment):
+    p = tmp_path / name
+    p.write_text(text)
+    with pytest.raises(InputError, match=fragment):
+        load_sources(p)
+    with pytest.raises(InputError, match="not found"):
+        load_sources(tmp_path / "absent.csv")
+
+
+def test_source_file_values(tmp_path):
+    # a monochromatic binary from masses: h0 = sqrt(2/5) 4 (G Mc)^(5/3) (pi f)^(2/3) / (c^4 D)
+    # (Peters 1964 amplitude; Robson, Cornish & Liu 2019 rms normalisation)
+    p = tmp_path / "s.csv"
+    p.write_text("# comment\nname,mass1,mass2,frequency,distance\nwd,0.6,0.6,3 mHz,1 kpc\n"
+                 "name2,,,,\n".replace("name2,,,,\n", "bh,30,30,,400 Mpc\n"))
+    wd, bh = load_sources(p)
+    G, c, msun = const.G.value, const.c.value, const.M_sun.value
+    mc = (0.6 * 0.6) ** 0.6 / 1.2**0.2 * msun
+    A = 4 * (G * mc) ** (5 / 3) * (np.pi * 3e-3) ** (2 / 3) / (c**4 * MPC / 1e3)
+    assert isinstance(wd, Monochromatic) and wd.h0 == pytest.approx(np.sqrt(0.4) * A, rel=1e-9, abs=0)
+    assert isinstance(bh, Inspiral) and bh.distance == pytest.approx(400 * MPC, rel=1e-12, abs=0)
+    with pytest.raises(ValueError, match="exactly one"):
+        Inspiral.from_masses(1, 1)
+
+
+@pytest.mark.parametrize("value, unit, fragment", [
+    (True, "Hz", "expected"),
+    (3.0, "Hz", "missing unit"),
+    ("3", "m", "missing unit"),
+    ("three metres", "m", "cannot read"),
+    ([1, 2], "m", "expected"),
+    ("1 s", "m", "length"),
+    ("[1, 2] m", "m", "single value"),
+])
+def test_bad_quantities(value, unit, fragment):
+    with pytest.raises(ValueError, match=fragment):
+        parse_quantity(value, unit)
+
+
+SPEC = """
+form = "asd"
+size = "two-column"
+[axes]
+fmin = "1e-4 Hz"
+fmax = "10 Hz"
+ymin = 1e-22
+ymax = 1e-14
+points = 200
+[[mission]]
+file = "default"
+noises = true
+band = 1e-17
+[[reference]]
+name = "aligo"
+[[track]]
+mass1 = 1e4
+mass2 = 1e4
+distance = "6.8 Gpc"
+[[track]]
+mass1 = 1e9
+mass2 = 1e9
+redshift = 1
+"""
+
+
+def test_spec_with_a_budget_a_band_and_limits(tmp_path):
+    # the band annotation sits where the default mission's ASD is below 1e-17 (read off the
+    # envelope on the spec's own grid); aLIGO (valid above 10 Hz) has no point in 1e-4..10 Hz
+    # except its edge; a 1e9 + 1e9 Msun binary merges below 1e-4 Hz and is left out
+    from gwclock.engine import envelope
+    from gwclock.mission import load_mission
+    p = tmp_path / "spec.toml"
+    p.write_text(SPEC)
+    spec, _ = load_spec(p)
+    fig, artists, _ = render_spec(spec, base_dir=tmp_path)
+    ax = fig.axes[0]
+    assert ax.get_ylim() == pytest.approx((1e-22, 1e-14), rel=1e-12, abs=0)
+    f = np.geomspace(1e-4, 10, 200)
+    below = f[envelope(load_mission(None)[0].design(), f).asd <= 1e-17]
+    lines = [a for a in artists["annotations"] if hasattr(a, "get_xdata")]
+    assert sorted(float(a.get_xdata()[0]) for a in lines) == pytest.approx([below[0], below[-1]], rel=1e-12, abs=0)
+    labels = [t.get_text() for t in artists["legend"].get_texts()]
+    assert sum(lab.startswith("  ") for lab in labels) == 4  # one per noise
+    assert not any("1e+09" in lab for lab in labels)
+
+
+@pytest.mark.parametrize("change, fragment", [
+    (("fmin = \"1e-4 Hz\"", "fmin = \"-1 Hz\""), "positive frequency"),
+    (("ymax = 1e-14", "ymax = 1e-23"), "ymin must be below ymax"),
+    (("fmax = \"10 Hz\"", "fmax = \"1e-5 Hz\""), "fmin must be below fmax"),
+    (("distance = \"6.8 Gpc\"", "distance = \"-6.8 Gpc\""), "positive distance"),
+    (("distance = \"6.8 Gpc\"", "redshift = 1\ndistance = \"6.8 Gpc\""), "exactly one"),
+    (("noises = true", "mode = \"window\""), "needs 'tune'"),
+])
+def test_bad_spec_values(tmp_path, change, fragment):
+    p = tmp_path / "spec.toml"
+    p.write_text(SPEC.replace(*change, 1))
+    with pytest.raises(InputError, match=fragment):
+        load_spec(p)
