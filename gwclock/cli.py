@@ -177,9 +177,11 @@ def cmd_window(args):
 def cmd_species(args):
     from .species import SPECIES
     for s in SPECIES.values():
-        print(f"{s.key:7s} {s.frequency:.3f} Hz  lifetime {s.lifetime:g} s  {s.transition}")
+        print(f"{s.key:7s} {s.digits} Hz  lifetime {s.lifetime:g} s  {s.transition}")
         print(f"        frequency: {s.frequency_source}")
         print(f"        lifetime:  {s.lifetime_source}")
+        if not s.checked:
+            print("        (not yet checked against the source text)")
     return 0
 
 

@@ -113,6 +113,8 @@ def cmd_references(args):
         print(f"        {r.source}")
         if r.note:
             print(f"        {r.note}")
+        if not r.checked:
+            print("        (coefficients not yet checked against the paper's text)")
     for name, text in TABULATED_ONLY.items():
         print(f"{'-':7s} {name}: no accepted analytic form; {text}")
     print("user curves: any .csv/.ecsv with 'frequency' and 'asd' or 'psd' and a declared 'convention'")

@@ -21,7 +21,7 @@ __all__ = ["Reference", "REFERENCES", "get_reference", "lisa_psd", "lisa_confusi
 SKY = "sky-averaged"
 OPTIMAL = "optimal orientation"
 
-# Robson, Cornish & Liu 2019, Table 1 (from memory; PHYSICS.md sec. 8): T_obs in yr ->
+# Robson, Cornish & Liu 2019, Table 1 (coefficients as recalled, not checked against the paper): T_obs in yr ->
 # (alpha, beta, kappa, gamma, f_k [Hz]); amplitude A = 9e-45.
 CONFUSION_PARAMETERS = {
     0.5: (0.133, 243.0, 482.0, 917.0, 0.00258),
@@ -60,7 +60,7 @@ def lisa_psd(f, confusion_years=None):
 
 
 def aligo_psd(f):
-    """Advanced LIGO design analytic fit (Sathyaprakash & Schutz 2009, LRR 12, 2; from memory):
+    """Advanced LIGO design analytic fit (Sathyaprakash & Schutz 2009, LRR 12, 2; coefficients as recalled):
     S0 = 1e-49 /Hz, f0 = 215 Hz, x = f/f0."""
     x = np.asarray(f, dtype=float) / 215.0
     return 1e-49 * (x ** (-4.14) - 5 * x ** (-2) + 111 * (1 - x**2 + x**4 / 2) / (1 + x**2 / 2))
@@ -68,13 +68,13 @@ def aligo_psd(f):
 
 def et_psd(f):
     """Einstein Telescope ET-B analytic fit (Mishra, Arun, Iyer & Sathyaprakash 2010,
-    PRD 82, 064010; coefficients from memory): x = f / 100 Hz, S0 = 1e-50 /Hz."""
+    PRD 82, 064010, as attributed; coefficients as recalled): x = f / 100 Hz, S0 = 1e-50 /Hz."""
     x = np.asarray(f, dtype=float) / 100.0
     return 1e-50 * (2.39e-27 * x ** (-15.64) + 0.349 * x ** (-2.145) + 1.76 * x ** (-0.12) + 0.409 * x**1.10) ** 2
 
 
 def decigo_psd(f):
-    """DECIGO (Yagi & Seto 2011, PRD 83, 044011, eq. 5; formula from memory), f_p = 7.36 Hz."""
+    """DECIGO (Yagi & Seto 2011, PRD 83, 044011, eq. 5; formula as recalled), f_p = 7.36 Hz."""
     f = np.asarray(f, dtype=float)
     fp = 7.36
     return (7.05e-48 * (1 + (f / fp) ** 2) + 4.8e-51 * f ** (-4) / (1 + (f / fp) ** 2) + 5.33e-52 * f ** (-4))
@@ -96,7 +96,11 @@ class Reference:
     band : (float, float)
         Frequencies (Hz) where the published model is meant to hold.
     source : str
+        The citation of the formula.
     note : str
+    checked : bool
+        Whether the coefficients were checked against the paper's text (``gwclock references``
+        says so when not).
     """
 
     key: str
@@ -107,6 +111,7 @@ class Reference:
     band: tuple
     source: str
     note: str = ""
+    checked: bool = True
     options: dict = field(default_factory=dict)
 
     def native(self, f, **options):
@@ -121,20 +126,20 @@ class Reference:
 REFERENCES = {
     "lisa": Reference(
         "lisa", "LISA", lisa_psd, SKY, 1.0, (1e-5, 1.0),
-        "Robson, Cornish & Liu 2019, Class. Quantum Grav. 36, 105011, eqs. 10-14 (L = 2.5 Gm, f* = 19.09 mHz)",
-        "galactic confusion for 0.5, 1, 2 or 4 yr on request (--confusion)"),
+        "Robson, Cornish & Liu 2019, Class. Quantum Grav. 36, 105011, eqs. 10-14 and Table 1 (L = 2.5 Gm, f* = 19.09 mHz)",
+        "galactic confusion for 0.5, 1, 2 or 4 yr on request (--confusion)", checked=False),
     "aligo": Reference(
         "aligo", "Advanced LIGO (design fit)", aligo_psd, OPTIMAL, 5 / 2, (10.0, 1e4),
-        "Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2 (analytic fit, from memory)",
-        "90-degree arms: sky average x 5/2; fit valid above about 10 Hz"),
+        "Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2 (analytic fit of the design curve)",
+        "90-degree arms: sky average x 5/2; fit valid above about 10 Hz", checked=False),
     "et": Reference(
         "et", "Einstein Telescope (ET-B fit)", et_psd, OPTIMAL, 5 / 2, (1.0, 1e4),
-        "Mishra, Arun, Iyer & Sathyaprakash 2010, Phys. Rev. D 82, 064010 (ET-B fit, coefficients from memory)",
-        "treated as one 90-degree interferometer: sky average x 5/2"),
+        "ET-B fit with four power laws, as attributed to Mishra, Arun, Iyer & Sathyaprakash 2010, Phys. Rev. D 82, 064010",
+        "treated as one 90-degree interferometer: sky average x 5/2", checked=False),
     "decigo": Reference(
         "decigo", "DECIGO", decigo_psd, OPTIMAL, 10 / 3, (1e-3, 100.0),
-        "Yagi & Seto 2011, Phys. Rev. D 83, 044011, eq. 5 (formula from memory; erratum PRD 95, 109901)",
-        "taken as non-sky-averaged for 60-degree arms: x 10/3 (an assumption, see the paper)"),
+        "Yagi & Seto 2011, Phys. Rev. D 83, 044011, eq. 5 (erratum PRD 95, 109901)",
+        "taken as non-sky-averaged for 60-degree arms: x 10/3 (an assumption, see the paper)", checked=False),
 }
 
 #: Curves with no accepted analytic form: load their published table as a user curve.

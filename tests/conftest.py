@@ -10,6 +10,19 @@ from gwclock.mission import load_mission
 
 ROOT = Path(__file__).resolve().parents[1]
 MISSIONS = sorted((ROOT / "mission_configs").glob("*.toml"))
+DATA = ROOT / "tests" / "data"
+
+
+def truth(name):
+    """A reference table of tests/data (ECSV, provenance in its header: source and status)."""
+    from astropy.table import QTable
+    return QTable.read(DATA / name, format="ascii.ecsv")
+
+
+def rows(name, *columns):
+    """The rows of a reference table as plain tuples of ``columns`` (values in the file's units)."""
+    t = truth(name)
+    return [tuple(getattr(r[c], "value", r[c]) for c in columns) for r in t]
 NU_SR = 429_228_004_229_873.7  # Hz, 87Sr, CIPM 2009 Recommendation 2
 
 

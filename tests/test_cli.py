@@ -206,8 +206,11 @@ def test_listing_commands(capsys):
     for key in ("lisa", "aligo", "et", "decigo"):
         assert key in out
     assert "Robson, Cornish & Liu 2019" in out
+    assert "from memory" not in out
     code, out, _ = run(["species"], capsys)
-    assert code == 0 and "Sr87" in out and "CIPM" in out
+    # the published digits, without floating-point artefacts (CIPM 2009 Recommendation 2)
+    assert code == 0 and "429 228 004 229 873.7 Hz" in out and "518 295 836 590 864 Hz" in out
+    assert "from memory" not in out
 
 
 def test_reference_and_track_figures(tmp_path, capsys):

@@ -13,6 +13,8 @@ from astropy import constants as const
 from gwclock.response import (directional_response, link_response, one_way_average,
                               phase_lock_transfer, two_way_average)
 
+from .conftest import rows
+
 C = const.c.value
 
 
@@ -26,13 +28,11 @@ class TestExactValues:
         assert one_way_average(np.pi / 4) == pytest.approx(expected, rel=1e-12, abs=0)
         assert two_way_average(np.pi / 2) == pytest.approx(expected, rel=1e-12, abs=0)
 
-    @pytest.mark.parametrize("a, expected", [(0.01, 2.6665650e-5), (10.0, 0.33210662), (100.0, 0.33332081)])
-    def test_one_way_table(self, a, expected):
-        assert one_way_average(a) == pytest.approx(expected, rel=1e-7, abs=0)
-
-    @pytest.mark.parametrize("a, expected", [(0.01, 1.0665194e-4), (10.0, 0.60833316), (100.0, 0.58751835)])
-    def test_two_way_table(self, a, expected):
-        assert two_way_average(a) == pytest.approx(expected, rel=1e-7, abs=0)
+    @pytest.mark.parametrize("path, a, expected, digits", rows("link_response.ecsv", "path", "a", "response", "digits"))
+    def test_reference_table(self, path, a, expected, digits):
+        # tests/data/link_response.ecsv: exact values and independent quadratures, to their digits
+        average = one_way_average if path == "one-way" else two_way_average
+        assert average(a) == pytest.approx(expected, rel=10.0 ** (1 - digits), abs=0)
 
     @pytest.mark.parametrize("f, expected", [(1e-3, 0.0507692), (1e-2, 0.6413889), (0.1, 0.6664139)])
     def test_summed_response_for_3e10_m(self, f, expected):

@@ -216,3 +216,18 @@ def test_clock_scan_against_the_per_cycle_quadrature(fk, beta):
     expected = 1.0 / (np.sqrt(T_obs / Tc / 2) * sigma_s2 / sigma_n2)
     got = bg.clock_scan_power_law(d, [fk], T_obs, [fk], betas=[beta], f_ref=fk)[0]
     assert got == pytest.approx(expected, rel=5e-2, abs=0)
+
+
+def test_best_schedule_takes_the_last_stretch_when_the_rate_only_grows(curve):
+    # where the tracked SNR rate h0^2 / S_n over the last T_obs beats every earlier moment, the best
+    # placement of T_obs is the last T_obs before it: SNR^2 = integral of the rate over that stretch
+    # (an independent quadrature on a finer grid than the schedule's own)
+    b = Inspiral.from_masses(1e4, 1e4, redshift=1.0)
+    T_obs = 1e5
+    tau_end = float(b.time_to_merger(min(curve.band[1], b.isco_frequency)))
+    tau = np.geomspace(tau_end, 1e3 * T_obs, 200001)
+    rate = b.rms_amplitude(b.frequency_at(tau)) ** 2 / curve.psd(b.frequency_at(tau))
+    last = tau <= tau_end + T_obs
+    assert rate[last].min() > rate[~last].max()
+    expected = np.sqrt(np.trapezoid((rate * tau)[last], np.log(tau[last])))
+    assert clock_snr(curve, b, "best", T_obs).snr == pytest.approx(expected, rel=1e-3, abs=0)

@@ -17,6 +17,8 @@ from gwclock.errors import InputError
 from gwclock.references import get_reference, lisa_confusion, lisa_psd, user_curve
 from gwclock.sources import MPC, Inspiral, Monochromatic, chirp_mass, load_sources
 
+from .conftest import rows
+
 MSUN = const.M_sun.value
 
 
@@ -35,14 +37,10 @@ class TestInspiral:
         assert chirp_mass(30, 30) == pytest.approx(26.11652, rel=1e-6, abs=0)
         assert self.binary().chirp_mass / MSUN == pytest.approx(28.33428, rel=1e-5, abs=0)  # detector frame
 
-    @pytest.mark.parametrize("f, tau, fdot, A, h0, hc", [
-        (0.01, 5.29331e8, 7.0844e-12, 3.6322e-24, 2.2972e-24, 8.6308e-21),
-        (0.1, 1.14041e6, 3.2883e-8, 1.6859e-23, 1.0663e-23, 5.8801e-21),
-        (1.0, 2456.94, 1.5263e-4, 7.8254e-23, 4.9492e-23, 4.0061e-21),
-        (10.0, 5.29331, 0.70844, 3.6322e-22, 2.2972e-22, 2.7293e-21),
-    ])
+    @pytest.mark.parametrize("f, tau, fdot, A, h0, hc", rows("inspiral_30_30_400Mpc.ecsv", "frequency", "time_to_merger",
+                                                             "frequency_derivative", "amplitude", "h0", "hc"))
     def test_check_table(self, f, tau, fdot, A, h0, hc):
-        # quadrupole-order values (computed independently from the formulas): 30+30 Msun at 400 Mpc, Peters (1964) at quadrupole order
+        # tests/data/inspiral_30_30_400Mpc.ecsv: Peters (1964) at quadrupole order, evaluated independently
         b = self.binary()
         assert b.time_to_merger(f) == pytest.approx(tau, rel=1e-4, abs=0)
         assert b.frequency_derivative(f) == pytest.approx(fdot, rel=1e-4, abs=0)
@@ -108,16 +106,14 @@ def test_source_files(tmp_path):
 
 
 class TestReferences:
-    @pytest.mark.parametrize("f, sn", [(1e-4, 2.11350e-33), (1e-3, 1.63606e-38), (2e-3, 1.05075e-39),
-                                       (1e-2, 1.44926e-40), (1e-1, 2.14823e-39)])
+    @pytest.mark.parametrize("f, sn", rows("lisa_instrument_rcl2019.ecsv", "frequency", "psd"))
     def test_lisa_instrument(self, f, sn):
-        # Robson, Cornish & Liu 2019 eqs. 10-13 (values from the formula)
+        # Robson, Cornish & Liu 2019 eqs. 10-13 (tests/data/lisa_instrument_rcl2019.ecsv)
         assert lisa_psd(f) == pytest.approx(sn, rel=1e-4, abs=0)
 
-    @pytest.mark.parametrize("f, one, four", [(1e-4, 3.1590e-35, 2.8369e-35), (1e-3, 1.6635e-37, 6.6624e-38),
-                                              (2e-3, 2.6534e-38, 8.1403e-40)])
+    @pytest.mark.parametrize("f, one, four", rows("lisa_confusion_rcl2019.ecsv", "frequency", "psd_1yr", "psd_4yr"))
     def test_lisa_confusion(self, f, one, four):
-        # Robson, Cornish & Liu 2019 eq. 14 with Table 1 (from memory)
+        # Robson, Cornish & Liu 2019 eq. 14 with Table 1 (tests/data/lisa_confusion_rcl2019.ecsv)
         assert lisa_confusion(f, 1) == pytest.approx(one, rel=1e-4, abs=0)
         assert lisa_confusion(f, 4) == pytest.approx(four, rel=1e-4, abs=0)
         assert lisa_psd(f, confusion_years=1) == pytest.approx(lisa_psd(f) + one, rel=1e-4, abs=0)
@@ -126,21 +122,15 @@ class TestReferences:
         assert get_reference("lisa").native(1e-3) == pytest.approx(lisa_psd(1e-3), rel=1e-12, abs=0)
         assert lisa_confusion(0.1, 1) == 0.0
 
-    @pytest.mark.parametrize("f, asd", [(10, 1.80587e-22), (100, 2.85504e-24), (215, 1.81659e-24), (1000, 1.41564e-23)])
-    def test_aligo_fit(self, f, asd):
-        # Sathyaprakash & Schutz 2009 fit; at 215 Hz exactly sqrt(33) x 10^-24.5
-        assert np.sqrt(get_reference("aligo").native(f)) == pytest.approx(asd, rel=1e-4, abs=0)
+    @pytest.mark.parametrize("key, f, asd", rows("reference_fits.ecsv", "detector", "frequency", "asd"))
+    def test_analytic_fits(self, key, f, asd):
+        # Sathyaprakash & Schutz 2009 (aLIGO), the ET-B fit, Yagi & Seto 2011 eq. 5 (DECIGO):
+        # tests/data/reference_fits.ecsv, printed to 6 digits
+        assert np.sqrt(get_reference(key).native(f)) == pytest.approx(asd, rel=1e-5, abs=0)
+
+    def test_aligo_fit_at_its_knee_is_exact(self):
+        # x = 1: S_h = S0 (1 - 5 + 111 / 3) = 33 S0, ASD sqrt(33) x 10^-24.5 (analytic)
         assert np.sqrt(get_reference("aligo").native(215.0)) == pytest.approx(np.sqrt(33) * 10**-24.5, rel=1e-12, abs=0)
-
-    @pytest.mark.parametrize("f, asd", [(1, 5.23485e-21), (10, 5.10859e-24), (100, 2.51800e-25), (1000, 6.48660e-25)])
-    def test_et_fit(self, f, asd):
-        # Mishra, Arun, Iyer & Sathyaprakash 2010 ET-B fit
-        assert np.sqrt(get_reference("et").native(f)) == pytest.approx(asd, rel=1e-4, abs=0)
-
-    @pytest.mark.parametrize("f, asd", [(0.01, 7.30278e-22), (0.1, 7.76997e-24), (1.0, 2.68056e-24), (10.0, 4.47936e-24)])
-    def test_decigo(self, f, asd):
-        # Yagi & Seto 2011 eq. 5
-        assert np.sqrt(get_reference("decigo").native(f)) == pytest.approx(asd, rel=1e-4, abs=0)
 
     def test_conventions(self):
         # optimal-orientation PSDs divided by the sky-averaged response: x5/2 (90 deg), x10/3 (60 deg)
