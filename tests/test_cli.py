@@ -176,9 +176,8 @@ def test_study_commands_against_independent_values(tmp_path, capsys):
     # background: Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) with Planck18's H0 (Thrane & Romano 2013)
     from astropy.cosmology import Planck18
 
-    from gwclock.references import lisa_psd
+    from gwclock.references import get_reference, lisa_psd
     from gwclock.snr import reference_snr
-    from gwclock.references import get_reference
     from gwclock.sources import Inspiral
     T = 3.15576e7
     assert run(["snr", "--frequency", "3 mHz", "--h0", "1e-21", "--against", "lisa", "--table", tmp_path / "s.ecsv",

@@ -87,6 +87,9 @@ def test_bad_source_tables(tmp_path, name, text, fragment):
     p.write_text(text)
     with pytest.raises(InputError, match=fragment):
         load_sources(p)
+
+
+def test_missing_source_file(tmp_path):
     with pytest.raises(InputError, match="not found"):
         load_sources(tmp_path / "absent.csv")
 
@@ -95,8 +98,7 @@ def test_source_file_values(tmp_path):
     # a monochromatic binary from masses: h0 = sqrt(2/5) 4 (G Mc)^(5/3) (pi f)^(2/3) / (c^4 D)
     # (Peters 1964 amplitude; Robson, Cornish & Liu 2019 rms normalisation)
     p = tmp_path / "s.csv"
-    p.write_text("# comment\nname,mass1,mass2,frequency,distance\nwd,0.6,0.6,3 mHz,1 kpc\n"
-                 "name2,,,,\n".replace("name2,,,,\n", "bh,30,30,,400 Mpc\n"))
+    p.write_text("# comment\nname,mass1,mass2,frequency,distance\nwd,0.6,0.6,3 mHz,1 kpc\nbh,30,30,,400 Mpc\n")
     wd, bh = load_sources(p)
     G, c, msun = const.G.value, const.c.value, const.M_sun.value
     mc = (0.6 * 0.6) ** 0.6 / 1.2**0.2 * msun
