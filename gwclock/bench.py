@@ -26,10 +26,10 @@ def _best_time(fn, repeat=3):
 def main() -> int:
     from scipy import integrate
 
-    from .batch import batch_budget
+    from .config.mission import load_mission
     from .engine import envelope
-    from .mission import load_mission
-    from .response import link_response
+    from .engine.batch import batch_budget
+    from .physics.response import link_response
 
     failures = []
     mission, _ = load_mission(None)
@@ -91,8 +91,8 @@ def main() -> int:
     print(f"cli_curve_wall: {t_cli / t_imp:.2f} x the bare imports ({t_cli:.2f} s vs {t_imp:.2f} s) (target: <= 1.25 x)")
 
     # (e) two local workers vs one on a large sweep
-    from .cli_study import run_sweep
-    from .sweep import parse_vary
+    from .cli.study import run_sweep
+    from .studies.sweep import parse_vary
     axes = [parse_vary("clock.atom_number=1e4:1e7:64:log", mission), parse_vary("link.baseline=1e9 m:1e11 m:48:log", mission)]
     tables = {}
 

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 
-from gwclock.mission import load_mission
+from gwclock.config.mission import load_mission
 
 ROOT = Path(__file__).resolve().parents[1]
 MISSIONS = sorted((ROOT / "mission_configs").glob("*.toml"))

@@ -53,7 +53,7 @@ def load(path=CATALOGUE):
     out = []
     for group in data["group"]:
         for m in group["mutant"]:
-            out.append(Mutant(m["name"], group["file"], m["find"], m["replace"],
+            out.append(Mutant(m["name"], m.get("file", group["file"]), m["find"], m["replace"],
                               tuple(m.get("tests", group["tests"])), bool(m.get("ci", False)), m.get("note", "")))
     names = [m.name for m in out]
     dupes = sorted({n for n in names if names.count(n) > 1})

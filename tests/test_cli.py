@@ -12,8 +12,8 @@ import pytest
 from astropy.table import QTable, Table
 
 from gwclock.cli import main
+from gwclock.config.mission import load_mission
 from gwclock.engine import envelope
-from gwclock.mission import load_mission
 
 from .conftest import MISSIONS
 
@@ -176,9 +176,9 @@ def test_study_commands_against_independent_values(tmp_path, capsys):
     # background: Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) with Planck18's H0 (Thrane & Romano 2013)
     from astropy.cosmology import Planck18
 
-    from gwclock.references import get_reference, lisa_psd
-    from gwclock.snr import reference_snr
-    from gwclock.sources import Inspiral
+    from gwclock.astro.references import get_reference, lisa_psd
+    from gwclock.astro.sources import Inspiral
+    from gwclock.studies.snr import reference_snr
     T = 3.15576e7
     assert run(["snr", "--frequency", "3 mHz", "--h0", "1e-21", "--against", "lisa", "--table", tmp_path / "s.ecsv",
                 "--observation", "1 yr"], capsys)[0] == 0

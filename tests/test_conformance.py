@@ -8,10 +8,10 @@ import numpy as np
 import pytest
 
 import gwclock
-from gwclock.noises import STATIONARY_NOISES, psd
-from gwclock.references import REFERENCES
-from gwclock.sequences import SEQUENCES
-from gwclock.species import SPECIES, get_species
+from gwclock.astro.references import REFERENCES
+from gwclock.physics.noises import STATIONARY_NOISES, psd
+from gwclock.physics.sequences import SEQUENCES
+from gwclock.physics.species import SPECIES, get_species
 
 from .conftest import quiet_design
 
@@ -65,9 +65,9 @@ def test_unknown_registry_keys_list_the_valid_ones():
         get_species("Cs133")
 
 
-@pytest.mark.parametrize("module", ["gwclock", "gwclock.engine", "gwclock.mission", "gwclock.response",
-                                    "gwclock.filters", "gwclock.noises", "gwclock.sources", "gwclock.references",
-                                    "gwclock.snr", "gwclock.background", "gwclock.sweep", "gwclock.batch"])
+@pytest.mark.parametrize("module", ["gwclock", "gwclock.engine", "gwclock.config.mission", "gwclock.physics.response",
+                                    "gwclock.physics.filters", "gwclock.physics.noises", "gwclock.astro.sources", "gwclock.astro.references",
+                                    "gwclock.studies.snr", "gwclock.studies.background", "gwclock.studies.sweep", "gwclock.engine.batch"])
 def test_public_api_names_exist(module):
     m = importlib.import_module(module)
     for name in m.__all__:

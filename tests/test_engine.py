@@ -11,11 +11,12 @@ import numpy as np
 import pytest
 
 from gwclock import engine
+from gwclock.engine import curves
+from gwclock.config.mission import load_mission
 from gwclock.engine import envelope, evaluate, optimise, window
-from gwclock.filters import periodic_filter_modulus
-from gwclock.mission import load_mission
-from gwclock.response import link_response
-from gwclock.sequences import SEQUENCES
+from gwclock.physics.filters import periodic_filter_modulus
+from gwclock.physics.response import link_response
+from gwclock.physics.sequences import SEQUENCES
 
 from .conftest import MISSIONS, quiet_design
 
@@ -151,7 +152,7 @@ class TestBandEdges:
         return best["projection"]
 
     def test_optimal_interrogation(self):
-        from gwclock.sequences import optimal_interrogation
+        from gwclock.physics.sequences import optimal_interrogation
         assert optimal_interrogation(118.0, 0.0) == pytest.approx(59.0, rel=1e-12, abs=0)
         assert optimal_interrogation(118.0, 10.0) == pytest.approx(66.693, rel=1e-5, abs=0)
 
@@ -225,7 +226,7 @@ class TestEnvelope:
         m, _ = load_mission(None)
         f = np.geomspace(1e-4, 10, 101)
         whole = envelope(m.design(), f).total
-        monkeypatch.setattr(engine, "CHUNK", 7)
+        monkeypatch.setattr(curves, "CHUNK", 7)
         assert np.array_equal(envelope(m.design(), f).total, whole)
 
     def test_bad_grids_are_refused(self):
@@ -321,7 +322,7 @@ class TestRamseyAliasing:
         f0, T = 2e-3, 30.0
         Tc = T + 3.1
         got = evaluate(d, RAMSEY, f0, 0, T)["shot"]
-        from gwclock import noises
+        from gwclock.physics import noises
         level = noises.shot_terms(d)[0].level
         S = lambda f: np.where(f <= 2.0, level * f**2, np.where(f <= 10.0, level * 4.0, 0.0))  # noqa: E731
         assert got == pytest.approx(self.ramsey(f0, T, Tc, S, M=2000), rel=3e-2, abs=0)
@@ -341,7 +342,8 @@ class TestRamseyAliasing:
         # (2 pi nu0)^2 integral S_y |G|^2 df: Parseval gives S T / 2 for white FM; flicker by quadrature
         # from 1/duration (scipy)
         from scipy import integrate
-        from gwclock import noises
+
+        from gwclock.physics import noises
         d = quiet_design(linewidth=0.1)
         T = 7.0
         white = RAMSEY.common_mode(d, noises.laser_terms(d)[:1], 1e-3, 0, T)

@@ -12,9 +12,14 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from gwclock import filters
-from gwclock.filters import (filter_function, finite_pulse_factor, periodic_filter_modulus,
-                             periodic_noise_integral, sensitivity_function)
+from gwclock.physics import filters
+from gwclock.physics.filters import (
+    filter_function,
+    finite_pulse_factor,
+    periodic_filter_modulus,
+    periodic_noise_integral,
+    sensitivity_function,
+)
 
 
 def cpmg_times(n, T):
@@ -186,7 +191,7 @@ def test_odd_harmonic_sums_against_brute_force():
 
 def test_ramsey_flicker_constant_by_quadrature():
     # integral_x^inf sinc^2(u)/u du = ln(1/x) + c0 for x -> 0, evaluated with scipy
-    from gwclock.sequences import RAMSEY_FLICKER_CONSTANT
+    from gwclock.physics.sequences import RAMSEY_FLICKER_CONSTANT
     x = 1e-4
     head = integrate.quad(lambda u: np.sinc(u) ** 2 / u, x, 1, limit=200)[0]
     tail = (0.5 - integrate.quad(lambda u: u**-3.0, 1, np.inf, weight="cos", wvar=2 * np.pi)[0]) / (2 * np.pi**2)

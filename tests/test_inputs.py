@@ -10,11 +10,13 @@ import numpy as np
 import pytest
 from astropy import constants as const
 
+from gwclock.astro.references import user_curve
+from gwclock.astro.sources import Inspiral, Monochromatic, load_sources
+from gwclock.config.figure_spec import load_spec
+from gwclock.outputs.figures import render_spec
+from gwclock.constants import MPC
 from gwclock.errors import InputError
-from gwclock.figspec import load_spec, render_spec
 from gwclock.quantities import parse_quantity
-from gwclock.references import user_curve
-from gwclock.sources import MPC, Inspiral, Monochromatic, load_sources
 
 CURVE_HEAD = "# convention: optimal orientation\n"
 
@@ -46,8 +48,8 @@ def test_missing_curve_file(tmp_path):
 def test_curve_in_mhz_and_psd_interpolates_a_power_law_exactly(tmp_path):
     # an f^-2 PSD tabulated at two points: log-log interpolation is exact in between
     p = tmp_path / "c.ecsv"
-    from astropy.table import QTable
     import astropy.units as u
+    from astropy.table import QTable
     t = QTable({"frequency": [1.0, 100.0] * u.mHz, "psd": [1e-36, 1e-40] * u.Hz**-1})
     t.meta["convention"] = "sky-averaged"
     t.write(p)
@@ -153,8 +155,8 @@ def test_spec_with_a_budget_a_band_and_limits(tmp_path):
     # the band annotation sits where the default mission's ASD is below 1e-17 (read off the
     # envelope on the spec's own grid); aLIGO (valid above 10 Hz) has no point in 1e-4..10 Hz
     # except its edge; a 1e9 + 1e9 Msun binary merges below 1e-4 Hz and is left out
+    from gwclock.config.mission import load_mission
     from gwclock.engine import envelope
-    from gwclock.mission import load_mission
     p = tmp_path / "spec.toml"
     p.write_text(SPEC)
     spec, _ = load_spec(p)

@@ -9,8 +9,8 @@ import textwrap
 import astropy.units as u
 import pytest
 
+from gwclock.config.mission import Mission, load_mission, mission_from_dict
 from gwclock.errors import InputError
-from gwclock.mission import Mission, load_mission, mission_from_dict
 
 from .conftest import MISSIONS
 

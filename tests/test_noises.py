@@ -10,14 +10,14 @@ Recommendation 2 clock frequencies, and astropy's constants.
 
 import numpy as np
 import pytest
-import gwclock.constants as sc
 from astropy import constants as const
 from scipy import integrate
 
-from gwclock import noises
-from gwclock.projection import correlation_penalty
-from gwclock.response import link_response
-from gwclock.species import SPECIES
+import gwclock.constants as sc
+from gwclock.physics import noises
+from gwclock.physics.projection import correlation_penalty
+from gwclock.physics.response import link_response
+from gwclock.physics.species import SPECIES
 
 from .conftest import quiet_design, rows
 

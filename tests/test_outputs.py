@@ -13,8 +13,9 @@ import zlib
 import pytest
 
 from gwclock.cli import main
+from gwclock.config.figure_spec import load_spec
+from gwclock.outputs.figures import render_spec
 from gwclock.errors import InputError
-from gwclock.figspec import load_spec, render_spec
 
 from .conftest import MISSIONS, ROOT
 
@@ -87,8 +88,8 @@ def test_curve_values_in_each_form(tmp_path, form):
     import numpy as np
     from astropy.cosmology import Planck18
 
+    from gwclock.config.mission import load_mission
     from gwclock.engine import envelope
-    from gwclock.mission import load_mission
     spec, _ = load_spec(spec_file(tmp_path, form))
     fig, artists, _ = render_spec(spec, base_dir=tmp_path)
     line = artists["curves"][0]

@@ -3,9 +3,9 @@
 import numpy as np
 from matplotlib.figure import Figure
 
+from gwclock.config.mission import load_mission
 from gwclock.engine import envelope, window
-from gwclock.mission import load_mission
-from gwclock.plotting import plot_budget
+from gwclock.outputs.plotting import plot_budget
 
 
 def test_budget_plot_artists():

@@ -10,8 +10,7 @@ import numpy as np
 import pytest
 from astropy import constants as const
 
-from gwclock.response import (directional_response, link_response, one_way_average,
-                              phase_lock_transfer, two_way_average)
+from gwclock.physics.response import directional_response, link_response, one_way_average, phase_lock_transfer, two_way_average
 
 from .conftest import rows
 
@@ -128,7 +127,8 @@ def test_phase_lock_transfer_of_a_first_order_loop():
     # a single-pole loop of bandwidth B: |H|^2 = 1/(1 + (f/B)^2) (half power at B; common practice,
     # no source), applied to the signal response of the engine
     from gwclock.engine import signal_response
-    from gwclock.response import phase_lock_transfer
+    from gwclock.physics.response import phase_lock_transfer
+
     from .conftest import quiet_design
     np.testing.assert_allclose(phase_lock_transfer([10.0, 100.0, 1.0], 10.0), [0.5, 1 / 101, 1 / 1.01], rtol=1e-14, atol=0)
     d = quiet_design(phase_lock_bandwidth=3.0)

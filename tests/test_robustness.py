@@ -17,9 +17,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from gwclock.config.mission import load_mission, mission_from_dict
 from gwclock.engine import envelope, window
 from gwclock.errors import InputError
-from gwclock.mission import load_mission, mission_from_dict
 
 from .conftest import quiet_design
 
@@ -72,7 +72,7 @@ def test_projection_scaling_law(N, k, f):
 @settings(max_examples=25, deadline=None)
 @given(st.floats(1e6, 1e12), st.floats(1.5, 10))
 def test_received_power_scaling_law(L, k):
-    from gwclock.noises import received_power
+    from gwclock.physics.noises import received_power
     assert received_power(quiet_design(baseline=L)) / received_power(quiet_design(baseline=k * L)) == pytest.approx(k**2, rel=1e-12, abs=0)
 
 
@@ -156,11 +156,11 @@ def test_killed_run_leaves_the_old_output_intact(tmp_path, sig):
 def test_ramsey_shortcut_bound_is_a_lower_bound(d):
     # the engine skips Ramsey where this bound exceeds the DD result; it must never exceed the
     # Ramsey result itself (analytic bound: C <= 1, kappa >= 1, |G|^2 <= min(T^2, 1/(pi f)^2))
-    from gwclock import engine
+    from gwclock.engine import search as engine
     f = np.geomspace(1e-6, 1e3, 40)
-    best, ok = engine._best(d, engine.SEQUENCES["ramsey"], f)
+    best, ok = engine.best_of_kind(d, engine.SEQUENCES["ramsey"], f)
     bound = engine._ramsey_projection_bound(d, f)
-    assert np.all(bound[ok] <= engine._total(best)[ok] * (1 + 1e-12))
+    assert np.all(bound[ok] <= engine.total_psd(best)[ok] * (1 + 1e-12))
 
 
 @settings(max_examples=200, deadline=None)
@@ -171,8 +171,8 @@ def test_continuous_interrogation_optimum_is_the_minimum(dead, tau, log_a, log_b
     # [lo, hi]; checked against scipy.optimize.minimize_scalar (bounded Brent) on the same range
     from scipy.optimize import minimize_scalar
 
-    from gwclock import engine
-    from gwclock.sequences import optimal_interrogation
+    from gwclock.engine import search as engine
+    from gwclock.physics.sequences import optimal_interrogation
 
     class D:
         dead_time = dead
@@ -186,7 +186,7 @@ def test_continuous_interrogation_optimum_is_the_minimum(dead, tau, log_a, log_b
         parts = [np.log(a / T), np.log(b / T**2), np.log(q / T**2) + 2 * T / tau]
         return np.log(T + dead) + np.logaddexp.reduce(parts)
 
-    found = float(engine._continuous_optimum(D, np.array([lo]), np.array([hi]), a, b, q, tau)[0])
+    found = float(engine.continuous_optimum(D, np.array([lo]), np.array([hi]), a, b, q, tau)[0])
     ref = minimize_scalar(cost, bounds=(lo, hi), method="bounded", options={"xatol": 1e-12 * hi}).x
     assert lo <= found <= hi
     assert cost(found) <= min(cost(ref), cost(lo), cost(hi)) + 1e-9
@@ -198,12 +198,12 @@ def test_pruned_ramsey_search_equals_the_exhaustive_one(d, gain):
     # the engine skips Ramsey candidates whose lower bounds already lose; evaluating every
     # candidate with the full aliasing sum must pick the same total (a gain mismatch makes the
     # laser flicker term need the explicit harmonic sum)
-    from gwclock import engine
+    from gwclock.engine import search as engine
     d = d.replace(gain_mismatch=gain, flicker_floor=max(d.flicker_floor, 1e-15))
     f = np.geomspace(1e-6, 1e3, 40)
     R = engine.SEQUENCES["ramsey"]
     n, T, valid = engine._safe(d, R, f, *R.snap(d, f, engine._ramsey_wishes(d, f)))
-    everything = np.where(valid, engine._total(engine.evaluate(d, R, f, n, T)), np.inf).min(axis=0)
-    best, ok = engine._best(d, R, f)
+    everything = np.where(valid, engine.total_psd(engine.evaluate(d, R, f, n, T)), np.inf).min(axis=0)
+    best, ok = engine.best_of_kind(d, R, f)
     assert np.array_equal(ok, np.isfinite(everything))
-    np.testing.assert_allclose(engine._total(best)[ok], everything[ok], rtol=1e-12, atol=0)
+    np.testing.assert_allclose(engine.total_psd(best)[ok], everything[ok], rtol=1e-12, atol=0)

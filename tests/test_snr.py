@@ -11,12 +11,13 @@ import pytest
 from astropy import constants as const
 from scipy import integrate
 
-from gwclock import background as bg
-from gwclock.horizon import horizon
-from gwclock.mission import load_mission
-from gwclock.references import get_reference
-from gwclock.snr import TunedCurve, broadband_snr, clock_snr, reference_snr, time_domain_snr
-from gwclock.sources import MPC, Inspiral, Monochromatic
+from gwclock.studies import background as bg
+from gwclock.astro.references import get_reference
+from gwclock.astro.sources import Inspiral, Monochromatic
+from gwclock.config.mission import load_mission
+from gwclock.constants import MPC
+from gwclock.studies.horizon import horizon
+from gwclock.studies.snr import TunedCurve, broadband_snr, clock_snr, reference_snr, time_domain_snr
 
 from .conftest import quiet_design
 
@@ -194,8 +195,9 @@ def test_clock_scan_against_the_per_cycle_quadrature(fk, beta):
     # quadrature of the exact |G|^2) and sigma_n^2 = |G(f0)|^2 S_y,eq / (2 Tc). The scan sums the
     # odd-harmonic lobes instead: within 5 % for these spectra (steep red spectra, beta < 0, need
     # the filter's leakage at low frequency, which the lobe sum leaves out)
-    from gwclock import engine, response
-    from gwclock.sequences import SEQUENCES
+    from gwclock import engine
+    from gwclock.physics import response
+    from gwclock.physics.sequences import SEQUENCES
     d = quiet_design(atom_number=1e6, pi_pulse_duration=1e-3, phase_lock_bandwidth=30.0)
     h0 = bg.hubble_constant()
     b = engine.envelope(d, np.array([fk]))

@@ -13,9 +13,10 @@ from astropy import constants as const
 from astropy import units as u
 from astropy.cosmology import Planck18
 
+from gwclock.astro.references import get_reference, lisa_confusion, lisa_psd, user_curve
+from gwclock.astro.sources import Inspiral, Monochromatic, chirp_mass, load_sources
+from gwclock.constants import MPC
 from gwclock.errors import InputError
-from gwclock.references import get_reference, lisa_confusion, lisa_psd, user_curve
-from gwclock.sources import MPC, Inspiral, Monochromatic, chirp_mass, load_sources
 
 from .conftest import rows
 

@@ -9,10 +9,10 @@ import pytest
 from astropy.table import QTable, Table
 
 from gwclock.cli import main
+from gwclock.config.mission import load_mission
 from gwclock.engine import envelope
 from gwclock.errors import InputError
-from gwclock.mission import load_mission
-from gwclock.sweep import parse_metric, parse_vary, require
+from gwclock.studies.sweep import parse_metric, parse_vary, require
 
 QUIET = """
 name = "quiet"
@@ -128,11 +128,11 @@ def test_dask_local_cluster_gives_the_same_table(tmp_path, capsys):
 
 
 def test_failing_sweep_leaves_no_table_and_keeps_the_old_one(tmp_path, capsys, monkeypatch):
-    from gwclock import cli_study
+    from gwclock.studies import executor
     p = tmp_path / "s.ecsv"
     p.write_text("old table")
     calls = {"n": 0}
-    real = cli_study._chunk_rows
+    real = executor.chunk_rows
 
     def failing(*a, **k):
         calls["n"] += 1
@@ -140,7 +140,7 @@ def test_failing_sweep_leaves_no_table_and_keeps_the_old_one(tmp_path, capsys, m
             raise KeyboardInterrupt
         return real(*a, **k)
 
-    monkeypatch.setattr(cli_study, "_chunk_rows", failing)
+    monkeypatch.setattr(executor, "chunk_rows", failing)
     code, _, err = run(["sweep", "--vary", "clock.atom_number=1e4:1e6:200:log", "--metric", "asd@0.1 Hz",
                         "--table", p], capsys)
     assert code == 130
@@ -248,9 +248,9 @@ class TestStudyMetrics:
             assert b.psd["shot"][0] / b.psd["projection"][0] == pytest.approx(1.0, rel=1e-6, abs=0)
 
     def test_horizon_is_where_the_tracked_snr_is_eight(self, tmp_path, capsys):
-        from gwclock.snr import TunedCurve, clock_snr
-        from gwclock.sources import Inspiral
-        from gwclock.sweep import BAND_GRID
+        from gwclock.astro.sources import Inspiral
+        from gwclock.studies.snr import TunedCurve, clock_snr
+        from gwclock.studies.sweep import BAND_GRID
         t = self.table(tmp_path, capsys, "horizon:2e4")
         for d, z in zip(self.designs(t), np.asarray(t["horizon_z@20000Msun"], dtype=float)):
             src = Inspiral.from_masses(1e4, 1e4, redshift=float(z))
@@ -267,7 +267,7 @@ class TestStudyMetrics:
             assert snr == pytest.approx(1e-21 * np.sqrt(d.duration / s), rel=1e-9, abs=0)
 
     def test_band_edges_bracket_the_level(self, tmp_path, capsys):
-        from gwclock.sweep import BAND_GRID
+        from gwclock.studies.sweep import BAND_GRID
         level = 3e-18
         t = self.table(tmp_path, capsys, f"band@{level:g}")
         for d, lo, hi in zip(self.designs(t), np.asarray(t[f"band_low@{level:g}"].value),

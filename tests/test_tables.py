@@ -3,7 +3,7 @@
 import numpy as np
 from astropy.table import QTable, Table
 
-from gwclock.ecsv import supported, write_ecsv
+from gwclock.outputs.ecsv import supported, write_ecsv
 
 
 def test_round_trip_matches_astropy(tmp_path):

@@ -9,11 +9,9 @@ from pathlib import Path
 
 import numpy as np
 
-from .tables import atomic_path, check_output_path
+from ..files import FIGURE_FORMATS, atomic_path, check_output_path
 
-__all__ = ["plot_budget", "plot_lines", "save_figure", "FIGURE_FORMATS", "NOISE_STYLE", "SERIES_STYLES"]
-
-FIGURE_FORMATS = (".png", ".pdf", ".svg")
+__all__ = ["plot_budget", "plot_lines", "draw_scan", "draw_sweep", "save_figure", "NOISE_STYLE", "SERIES_STYLES"]
 
 # Colour-blind-safe hues (Okabe & Ito 2008) with distinct dash patterns for greyscale print.
 NOISE_STYLE = {
@@ -167,3 +165,67 @@ def save_figure(fig, path, dpi=200, metadata=None) -> Path:
     with atomic_path(p) as tmp:
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
     return p
+
+
+def draw_scan(ax, f, tunings, S, env):
+    """Windows of a tuning scan (thin, graded) and their envelope; returns the artists.
+
+    ``ax`` may be None (a new figure is made)."""
+    import matplotlib as mpl
+
+    _, ax = _new_axes(ax)
+    cmap = mpl.colormaps["viridis"]
+    lines = []
+    for k in range(len(tunings)):
+        (ln,) = ax.plot(f, np.sqrt(S[k]), color=cmap(k / max(len(tunings) - 1, 1)), lw=0.9, alpha=0.85)
+        lines.append(ln)
+    (e,) = ax.plot(f, np.sqrt(env), color="black", lw=2.0, label="envelope of the scan")
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    good = np.sqrt(env)
+    ax.set_ylim(good.min() / 3, good.min() * 1e4)
+    ax.set_xlabel("frequency [Hz]")
+    ax.set_ylabel(r"strain ASD [Hz$^{-1/2}$]")
+    ax.grid(True, alpha=0.3)
+    lines[0].set_label(f"fixed tunings {tunings[0]:.3g} Hz to {tunings[-1]:.3g} Hz")
+    ax.legend(loc="best", fontsize="small", framealpha=0.85)
+    return {"windows": lines, "envelope": e}
+
+
+def draw_sweep(ax, axes, metric, table, title=None):
+    """A sweep's first metric against one varied field (a line) or two (a map with contours)."""
+    col = metric.columns[0]
+    fig, ax = _new_axes(ax)
+    y = np.asarray(table[col], dtype=float)
+    label = f"{col}" + (f" [{metric.units[0]}]" if metric.units[0] else "")
+    if len(axes) == 1:
+        a = axes[0]
+        x = np.asarray(table[a.field], dtype=float)
+        ax.plot(x, y, marker="o", ms=3, **SERIES_STYLES[0])
+        if f"{col}_p05" in table.colnames:
+            ax.fill_between(x, table[f"{col}_p05"], table[f"{col}_p95"], color="0.7", alpha=0.5, label="5-95 %")
+            ax.legend(frameon=False)
+        ax.set_xscale("log" if a.log else "linear")
+        if np.all(y[np.isfinite(y)] > 0):
+            ax.set_yscale("log")
+        ax.set_xlabel(f"{a.field}" + (f" [{a.unit}]" if a.unit else ""))
+        ax.set_ylabel(label)
+        ax.grid(True, alpha=0.3)
+    else:
+        a, b = axes[0], axes[1]
+        Z = y.reshape(len(a.values), len(b.values)).T
+        logz = np.all(Z[np.isfinite(Z)] > 0)
+        Zp = np.log10(Z) if logz else Z
+        mesh = ax.pcolormesh(a.values, b.values, Zp, shading="nearest", cmap="cividis")
+        cb = fig.colorbar(mesh, ax=ax)
+        cb.set_label(("log10 " if logz else "") + label)
+        if np.isfinite(Zp).sum() > 3 and len(a.values) > 1 and len(b.values) > 1:
+            cs = ax.contour(a.values, b.values, Zp, colors="white", linewidths=0.8, linestyles="solid")
+            ax.clabel(cs, fontsize="x-small", fmt="%.3g")
+        ax.set_xscale("log" if a.log else "linear")
+        ax.set_yscale("log" if b.log else "linear")
+        ax.set_xlabel(f"{a.field}" + (f" [{a.unit}]" if a.unit else ""))
+        ax.set_ylabel(f"{b.field}" + (f" [{b.unit}]" if b.unit else ""))
+    if title:
+        ax.set_title(title)
+    return fig, ax

@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 from scipy.optimize import brentq
 
-from .sources import Inspiral, distance_at_redshift
+from ..astro.sources import Inspiral, distance_at_redshift
 
 __all__ = ["horizon", "Z_MIN", "Z_MAX"]
 

@@ -11,9 +11,18 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+import astropy.units as u
 import numpy as np
+from pydantic import ValidationError
+from scipy.optimize import brentq
 
-from .errors import InputError
+from ..astro.sources import load_sources
+from ..config.mission import validation_error
+from ..engine.batch import batch_budget
+from ..errors import InputError
+from ..quantities import parse_frequency, parse_quantity
+from .horizon import horizon
+from .snr import SCHEDULES, TunedCurve, clock_snr
 
 __all__ = ["Axis", "parse_vary", "parse_metric", "Metric", "point", "evaluate_points", "require",
            "parse_perturb", "perturbed_metrics"]
@@ -30,8 +39,7 @@ class Axis:
     log: bool
 
 
-def _field_unit(mission, field):
-    import astropy.units as u
+def field_unit(mission, field):
     node = mission
     for part in field.split("."):
         if not hasattr(node, part):
@@ -50,7 +58,6 @@ def _field_unit(mission, field):
 
 def parse_vary(text, mission) -> Axis:
     """``FIELD=START:STOP:COUNT[:log]`` with units on START and STOP for quantity fields."""
-    from .quantities import parse_quantity
     m = re.fullmatch(r"\s*([\w.]+)\s*=\s*(.+)", text or "")
     if not m:
         raise InputError("expected FIELD=START:STOP:COUNT[:log]", source="command line", field="--vary", value=text)
@@ -58,7 +65,7 @@ def parse_vary(text, mission) -> Axis:
     parts = [p.strip() for p in rest.split(":")]
     if len(parts) not in (3, 4) or (len(parts) == 4 and parts[3] not in ("log", "lin")):
         raise InputError("expected FIELD=START:STOP:COUNT[:log]", source="command line", field="--vary", value=text)
-    unit = _field_unit(mission, field)
+    unit = field_unit(mission, field)
     try:
         count = int(parts[2])
     except ValueError:
@@ -94,7 +101,6 @@ class Metric:
 
 def parse_metric(text) -> Metric:
     """``asd@FREQ``, ``band@LEVEL``, ``snr:FILE[:SCHEDULE]``, ``horizon:MASS``, ``power_needed@FREQ``."""
-    from .quantities import parse_frequency
     t = (text or "").strip()
     try:
         if t.startswith("asd@"):
@@ -115,12 +121,10 @@ def parse_metric(text) -> Metric:
             return Metric(t, "horizon", mass, (f"horizon_z@{mass:g}Msun",), ("",), "high")
         if t.startswith("snr:"):
             rest = t[4:]
-            from .snr import SCHEDULES
             schedule = "track"
             for s in SCHEDULES:
                 if rest.endswith(":" + s):
                     rest, schedule = rest[: -len(s) - 1], s
-            from .sources import load_sources
             sources = load_sources(rest)
             cols = tuple(f"snr[{schedule}]:{src.name}" for src in sources)
             return Metric(t, "snr", (sources, schedule), cols, ("",) * len(cols), "high")
@@ -136,16 +140,14 @@ def point(mission, axes, combo):
     try:
         return combo, mission.clone(**changes), ""
     except Exception as exc:  # a pydantic ValidationError: reported in the row
-        return combo, None, _reason(exc)
+        return combo, None, failure_reason(exc)
 
 
-def _reason(exc):
+def failure_reason(exc):
     """The one-line message of a validation failure, without a file name."""
-    from pydantic import ValidationError
 
-    from .mission import _error_from_validation
     if isinstance(exc, ValidationError):
-        return str(_error_from_validation(exc, None))
+        return str(validation_error(exc, None))
     return " ".join(str(exc).split())
 
 
@@ -154,7 +156,6 @@ BAND_GRID = np.geomspace(1e-5, 100.0, 240)
 
 def evaluate_points(designs, metrics):
     """Metric values for a list of designs: dict column -> array (len(designs))."""
-    from .batch import batch_budget
     V = len(designs)
     out = {}
     if V == 0:
@@ -182,7 +183,6 @@ def evaluate_points(designs, metrics):
 
 
 def _tuned_curves(designs, curve):
-    from .snr import TunedCurve
     curves = []
     for i, d in enumerate(designs):
         c = TunedCurve.__new__(TunedCurve)
@@ -193,8 +193,6 @@ def _tuned_curves(designs, curve):
 
 
 def _per_curve(designs, curve, m):
-    from .horizon import horizon
-    from .snr import clock_snr
     curves = _tuned_curves(designs, curve)
     if m.kind == "snr":
         sources, schedule = m.arg
@@ -205,9 +203,7 @@ def _per_curve(designs, curve, m):
 def _power_needed(designs, f0):
     """Transmit power at which shot noise equals projection noise at f0 (sequence re-optimised),
     by bracketed root finding on log P; NaN when no power in 1e-9..1e6 W achieves it."""
-    from scipy.optimize import brentq
 
-    from .batch import batch_budget
     out = np.full(len(designs), np.nan)
     for i, d in enumerate(designs):
         def gap(logp, d=d):
@@ -226,14 +222,13 @@ def parse_perturb(text, mission):
     if not m:
         raise InputError("expected FIELD=REL_SIGMA", source="command line", field="--perturb", value=text)
     field, sigma = m.group(1), float(m.group(2))
-    _field_unit(mission, field)
+    field_unit(mission, field)
     if not 0 < sigma < 1:
         raise InputError("REL_SIGMA must lie in (0, 1)", source="command line", field="--perturb", value=text)
     return field, sigma
 
 
-def _field_value(mission, field):
-    import astropy.units as u
+def field_value(mission, field):
     node = mission
     for part in field.split("."):
         node = getattr(node, part)
@@ -251,7 +246,7 @@ def perturbed_metrics(mission, metrics, perturb, samples, seed):
     for _ in range(samples):
         changes = {}
         for field, sigma in perturb:
-            v, unit = _field_value(mission, field)
+            v, unit = field_value(mission, field)
             x = v * max(1 + sigma * rng.standard_normal(), 1e-3)
             changes[field] = f"{x!r} {unit}" if unit else x
         try:
@@ -272,8 +267,7 @@ def require(mission, metric: Metric, op: str, target: float, field: str, bounds)
 
     Returns (value, unit, message).
     """
-    from scipy.optimize import brentq
-    unit = _field_unit(mission, field)
+    unit = field_unit(mission, field)
     lo, hi = bounds
 
     def value(x):

@@ -10,11 +10,23 @@ from __future__ import annotations
 import base64
 import html
 import io
+import re
 from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
+from .. import __version__
+from ..astro.references import get_reference
+from ..astro.sources import Inspiral, Monochromatic
+from ..constants import MPC
+from ..engine import envelope, window_psd
+from ..errors import InputError
+from ..files import atomic_path
+from ..studies.horizon import horizon
+from ..studies.snr import TunedCurve, clock_snr, reference_snr
+from .plotting import REFERENCE_STYLES, draw_scan, plot_budget
+from .summary import describe_mission
+from .tables import provenance
 
 __all__ = ["build_report", "STANDARD_SOURCES"]
 
@@ -36,13 +48,11 @@ def _png(fig):
 
 
 def _write_atomic(path: Path, data: bytes):
-    from .tables import atomic_path
     with atomic_path(path) as tmp:
         tmp.write_bytes(data)
 
 
 def _sources():
-    from .sources import MPC, Inspiral, Monochromatic
     out = []
     for name, kw in STANDARD_SOURCES:
         if "frequency" in kw:
@@ -58,15 +68,6 @@ def build_report(mission, digest, out_dir):
     """Write ``report.md``, ``report.html`` and the figures into ``out_dir``; returns both paths."""
     from matplotlib.figure import Figure
 
-    from . import __version__
-    from .cli import describe
-    from .cli_study import draw_scan
-    from .engine import envelope, window_psd
-    from .horizon import horizon
-    from .plotting import REFERENCE_STYLES, plot_budget
-    from .references import get_reference
-    from .snr import TunedCurve, clock_snr, reference_snr
-    from .tables import provenance
 
     out = Path(out_dir)
     if out.exists() and not out.is_dir():
@@ -133,7 +134,7 @@ def build_report(mission, digest, out_dir):
     def fmt(x, spec=".3g"):
         return "-" if not np.isfinite(x) else (f"{x:{spec}}" if x != np.inf else "beyond z = 1000")
 
-    params = describe(mission, digest)
+    params = describe_mission(mission, digest)
     ref_labels = [get_reference(k).label for k in REFERENCE_SET]
     md = [f"# {mission.name}: clock-link sensitivity report", "",
           f"*Concept-study estimate* produced by gwclock {__version__} on {meta['created']} from a mission file with "
@@ -175,7 +176,6 @@ def build_report(mission, digest, out_dir):
 
 def _inline(text):
     t = html.escape(text)
-    import re
     t = re.sub(r"\*\*(.+?)\*\*", r"<strong>\1</strong>", t)
     t = re.sub(r"\*(.+?)\*", r"<em>\1</em>", t)
     t = re.sub(r"`(.+?)`", r"<code>\1</code>", t)

@@ -11,17 +11,18 @@ import difflib
 import hashlib
 import math
 import tomllib
-from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
-from typing import Annotated, Any, Literal
+from typing import Annotated, Any, Literal, get_args
 
 import astropy.units as u
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, model_validator
 
-from .errors import InputError
-from .quantities import parse_quantity
-from .species import SPECIES
+from ..errors import InputError
+from ..files import read_toml
+from ..physics.design import Design
+from ..physics.species import SPECIES
+from ..quantities import parse_quantity
 
 __all__ = ["Mission", "Design", "load_mission", "mission_from_dict", "DEFAULT_MISSION", "SCHEMA_UNITS"]
 
@@ -199,7 +200,7 @@ class Mission(_Section):
             return self.sequence.max_interrogation
         return 3 * self.coherence_time
 
-    def design(self) -> "Design":
+    def design(self) -> Design:
         """The SI-float parameter set that the engine evaluates."""
         sp = SPECIES[self.clock.species]
         si = lambda q, unit: float(q.to_value(unit))  # noqa: E731
@@ -234,7 +235,7 @@ class Mission(_Section):
             duration=si(self.observation.duration, u.s),
         )
 
-    def clone(self, **changes: Any) -> "Mission":
+    def clone(self, **changes: Any) -> Mission:
         """A new mission with dotted-field changes (``{"clock.atom_number": 1e6}``), re-validated."""
         data = self.model_dump(mode="python")
         for dotted, value in changes.items():
@@ -244,60 +245,6 @@ class Mission(_Section):
                 node = node[p]
             node[leaf] = value
         return Mission.model_validate(data)
-
-
-@dataclass(frozen=True)
-class Design:
-    """Engine parameters in SI units (floats); built by :meth:`Mission.design`.
-
-    Frequencies in Hz, times in s, lengths in m, powers in W, acceleration ASD in m s^-2 Hz^-1/2.
-    ``squeezing`` is the Wineland parameter xi^2 (1 without squeezing).
-    """
-
-    name: str
-    nu0: float
-    atom_number: float
-    coherence_time: float
-    dead_time: float
-    squeezing: float
-    pi_pulse_duration: float
-    pulse_error: float
-    baseline: float
-    transmit_power: float
-    transmit_aperture: float
-    receive_aperture: float
-    optical_efficiency: float
-    phase_lock_bandwidth: float
-    timing_mismatch: float
-    path: str
-    linewidth: float
-    flicker_floor: float
-    gain_mismatch: float
-    acceleration_noise: float
-    acceleration_corner: float
-    kind: str
-    max_interrogation: float
-    tune: float | None
-    comparison: str
-    pulse_times: tuple[float, ...]
-    duration: float
-
-    def take(self, index, size: int) -> "Design":
-        """The design at ``index`` of evaluation points: array fields of length ``size`` are indexed."""
-        from dataclasses import fields, replace
-
-        import numpy as np
-        changes = {}
-        for f in fields(self):
-            v = getattr(self, f.name)
-            if isinstance(v, np.ndarray) and v.ndim == 1 and v.size == size:
-                changes[f.name] = v[index]
-        return replace(self, **changes) if changes else self
-
-    def replace(self, **changes: Any) -> "Design":
-        """A copy with some fields changed (no validation: library use only)."""
-        from dataclasses import replace
-        return replace(self, **changes)
 
 
 # loading -------------------------------------------------------------------------------------
@@ -313,7 +260,6 @@ def _dotted(loc) -> str:
 
 
 def _fields_at(loc, root=None) -> list[str]:
-    from typing import get_args
     model = root or Mission
     for part in loc[:-1]:
         if isinstance(part, int):
@@ -329,7 +275,7 @@ def _fields_at(loc, root=None) -> list[str]:
     return list(model.model_fields)
 
 
-def _error_from_validation(exc: ValidationError, source: str | None, root=None) -> InputError:
+def validation_error(exc: ValidationError, source: str | None, root=None) -> InputError:
     """One-line error for any gwclock schema (missions by default, figure specs with ``root``)."""
     errors = exc.errors(include_url=False)
     # a misspelt key also shows as a missing field: report the misspelling first
@@ -362,29 +308,7 @@ def mission_from_dict(data: dict, source: str = "<mission>") -> Mission:
     try:
         return Mission.model_validate(data)
     except ValidationError as exc:
-        raise _error_from_validation(exc, source) from None
-
-
-def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
-    """Read and parse a TOML file; every failure is an :class:`InputError`."""
-    p = Path(path)
-    from .tables import register_input
-    register_input(p)
-    try:
-        raw = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{what} not found", source=str(p)) from None
-    except IsADirectoryError:
-        raise InputError(f"expected a {what}, found a folder", source=str(p)) from None
-    except OSError as exc:
-        raise InputError(f"cannot read the {what} ({exc.strerror})", source=str(p)) from None
-    try:
-        text = raw.decode("utf-8")
-        return tomllib.loads(text), raw
-    except UnicodeDecodeError:
-        raise InputError("not UTF-8 text; expected a TOML file", source=str(p)) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"TOML syntax error: {exc}", source=str(p)) from None
+        raise validation_error(exc, source) from None
 
 
 def load_mission(path: str | Path | None = None) -> tuple[Mission, str]:

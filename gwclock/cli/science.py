@@ -2,9 +2,24 @@
 
 from __future__ import annotations
 
-import numpy as np
+from pathlib import Path
 
-from .errors import InputError
+import numpy as np
+from astropy.table import Table
+
+from ..astro.references import CONFUSION_PARAMETERS, REFERENCES, TABULATED_ONLY, user_curve
+from ..astro.sources import MARKS, Inspiral, Monochromatic, load_sources
+from ..config.mission import load_mission
+from ..constants import MPC, MSUN, YEAR
+from ..engine import envelope
+from ..errors import InputError
+from ..outputs.plotting import plot_lines
+from ..outputs.tables import Column, provenance
+from ..quantities import parse_frequency
+from ..studies import background as bg
+from ..studies.horizon import horizon
+from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
+from .common import check_outputs, grid, grid_args, mission_arg, number, quantity, save_plot, save_table
 
 __all__ = ["add_commands"]
 
@@ -12,31 +27,7 @@ DEFAULT_AGAINST = ["lisa", "decigo", "et", "aligo"]
 DEFAULT_MASSES = [10, 30, 100, 300, 1e3, 3e3, 1e4, 3e4, 1e5, 3e5, 1e6]
 
 
-def _q(text, unit, option, positive=True):
-    from .quantities import parse_quantity
-    try:
-        v = float(parse_quantity(text, unit, allow_plain=unit in ("Hz", "solMass")).value)
-    except ValueError as exc:
-        raise InputError(str(exc), source="command line", field=option, value=text) from None
-    if positive and v <= 0:
-        raise InputError("expected a positive value", source="command line", field=option, value=text)
-    return v
-
-
-def _number(text, option, lo=0.0):
-    try:
-        v = float(text)
-    except (TypeError, ValueError):
-        raise InputError("expected a plain number", source="command line", field=option, value=text) from None
-    if not np.isfinite(v) or v < lo:
-        raise InputError(f"expected a number >= {lo:g}", source="command line", field=option, value=text)
-    return v
-
-
 def _references(names, confusion=None):
-    from pathlib import Path
-
-    from .references import REFERENCES, user_curve
     out = []
     for name in names:
         if name.lower() in REFERENCES:
@@ -52,8 +43,7 @@ def _references(names, confusion=None):
 def _confusion(args):
     if getattr(args, "confusion", None) is None:
         return None
-    from .references import CONFUSION_PARAMETERS
-    years = _number(args.confusion, "--confusion")
+    years = number(args.confusion, "--confusion")
     if years not in CONFUSION_PARAMETERS:
         raise InputError(f"expected one of {', '.join(f'{k:g}' for k in CONFUSION_PARAMETERS)} (years)",
                          source="command line", field="--confusion", value=args.confusion)
@@ -61,52 +51,26 @@ def _confusion(args):
 
 
 def _source_from_args(args):
-    from .sources import Inspiral, Monochromatic, load_sources
     if getattr(args, "source", None):
         return load_sources(args.source)
     if args.frequency is not None:
         if args.h0 is None:
             raise InputError("a monochromatic source needs --h0 with --frequency", source="command line", field="--h0")
-        return [Monochromatic("monochromatic", _q(args.frequency, "Hz", "--frequency"), _number(args.h0, "--h0"))]
+        return [Monochromatic("monochromatic", quantity(args.frequency, "Hz", "--frequency"), number(args.h0, "--h0"))]
     if args.mass1 is None or args.mass2 is None:
         raise InputError("give --source FILE, or --mass1 and --mass2 with --distance or --redshift, "
                          "or --frequency with --h0", source="command line")
-    m1, m2 = _q(args.mass1, "solMass", "--mass1"), _q(args.mass2, "solMass", "--mass2")
+    m1, m2 = quantity(args.mass1, "solMass", "--mass1"), quantity(args.mass2, "solMass", "--mass2")
     if (args.distance is None) == (args.redshift is None):
         raise InputError("give exactly one of --distance and --redshift", source="command line")
     if args.distance is not None:
-        d = _q(args.distance, "m", "--distance")
-        return [Inspiral.from_masses(m1, m2, distance=d, name=f"{m1:g}+{m2:g} Msun at {d / 3.0856775814913673e22:.4g} Mpc")]
-    z = _number(args.redshift, "--redshift")
+        d = quantity(args.distance, "m", "--distance")
+        return [Inspiral.from_masses(m1, m2, distance=d, name=f"{m1:g}+{m2:g} Msun at {d / MPC:.4g} Mpc")]
+    z = number(args.redshift, "--redshift")
     return [Inspiral.from_masses(m1, m2, redshift=z, name=f"{m1:g}+{m2:g} Msun at z = {z:g}")]
 
 
-def _save(table, path):
-    from .tables import write_table
-    write_table(table, path)
-    print(f"wrote table {path}")
-
-
-def _figure(path, draw, title):
-    from matplotlib.figure import Figure
-
-    from . import __version__
-    from .plotting import save_figure
-    fig = Figure(figsize=(6.4, 4.4), layout="constrained")
-    ax = fig.add_subplot()
-    draw(ax)
-    ax.set_title(title)
-    save_figure(fig, path, metadata={"Title": title, "Creator": f"gwclock {__version__}"})
-    print(f"wrote figure {path}")
-
-
-def _check_outputs(args):
-    from .tables import check_outputs
-    check_outputs(args)
-
-
 def cmd_references(args):
-    from .references import REFERENCES, TABULATED_ONLY
     for r in REFERENCES.values():
         print(f"{r.key:7s} {r.label}  [{r.convention}; x{r.sky_factor:.4g} to sky average; "
               f"{r.band[0]:g}-{r.band[1]:g} Hz]")
@@ -122,13 +86,9 @@ def cmd_references(args):
 
 
 def cmd_reference(args):
-    from astropy.table import Table
-
-    from .cli import _grid
-    from .tables import Column, provenance
     (ref, opts), = _references([args.name], _confusion(args))
-    f = _grid(args)
-    _check_outputs(args)
+    f = grid(args)
+    check_outputs(args)
     if args.convention == "native":
         psd, conv = ref.native(f, **opts), ref.convention
     else:
@@ -143,24 +103,19 @@ def cmd_reference(args):
         t.meta["galactic_confusion_years"] = opts["confusion_years"]
     print(f"{ref.label}: {conv}; {ref.source}")
     if args.table:
-        _save(t, args.table)
+        save_table(t, args.table)
     if args.plot:
-        from .plotting import plot_lines
-        _figure(args.plot, lambda ax: plot_lines([(f"{ref.label} ({conv})", f, np.sqrt(psd))], ax=ax,
+        save_plot(args.plot, lambda ax: plot_lines([(f"{ref.label} ({conv})", f, np.sqrt(psd))], ax=ax,
                                                  ylabel=r"strain ASD [Hz$^{-1/2}$]"), ref.label)
     return 0
 
 
 def cmd_track(args):
-    from astropy.table import Table
-
-    from .sources import MARKS
-    from .tables import Column, provenance
     (src,) = _source_from_args(args)
-    fmin, fmax = _q(args.fmin, "Hz", "--fmin"), _q(args.fmax, "Hz", "--fmax")
+    fmin, fmax = quantity(args.fmin, "Hz", "--fmin"), quantity(args.fmax, "Hz", "--fmax")
     if fmin >= fmax:
         raise InputError("--fmin must be below --fmax", source="command line")
-    _check_outputs(args)
+    check_outputs(args)
     try:
         tau, f, hc = src.track(fmin, fmax, args.points)
     except ValueError as exc:
@@ -170,11 +125,11 @@ def cmd_track(args):
     t["frequency"] = Column(f, unit="Hz")
     t["hc"] = Column(hc)
     t.meta.update(provenance(src.name, "-"))
-    t.meta.update(chirp_mass_detector_frame_msun=src.chirp_mass / 1.988409870698051e30, redshift=src.redshift,
+    t.meta.update(chirp_mass_detector_frame_msun=src.chirp_mass / MSUN, redshift=src.redshift,
                   luminosity_distance_m=src.distance, isco_frequency_hz=src.isco_frequency,
                   convention="h_c = 2 f |h~| averaged over sky, polarisation and inclination (RCL normalisation)")
     print(f"{src.name}: z = {src.redshift:.4g}, detector-frame chirp mass "
-          f"{src.chirp_mass / 1.988409870698051e30:.5g} Msun, last stable orbit at {src.isco_frequency:.4g} Hz")
+          f"{src.chirp_mass / MSUN:.5g} Msun, last stable orbit at {src.isco_frequency:.4g} Hz")
     marks = []
     for label, before in MARKS.items():
         fm = float(src.frequency_at(before))
@@ -182,34 +137,27 @@ def cmd_track(args):
         if f[0] <= fm <= f[-1]:
             marks.append((label, fm, float(src.characteristic_strain(fm))))
     if args.table:
-        _save(t, args.table)
+        save_table(t, args.table)
     if args.plot:
-        from .plotting import plot_lines
-        _figure(args.plot, lambda ax: plot_lines([(src.name, f, hc)], ax=ax, ylabel="characteristic strain $h_c$",
+        save_plot(args.plot, lambda ax: plot_lines([(src.name, f, hc)], ax=ax, ylabel="characteristic strain $h_c$",
                                                  marks=marks), f"{src.name}: track")
     return 0
 
 
 def _clock(args):
-    from .mission import load_mission
-    from .snr import TunedCurve
     mission, digest = load_mission(args.mission)
     return mission, digest, TunedCurve(mission.design())
 
 
 def cmd_snr(args):
-    from astropy.table import Table
-
-    from .snr import clock_snr, reference_snr
-    from .tables import Column, provenance
     mission, digest, curve = _clock(args)
     sources = _source_from_args(args)
     refs = _references(args.against or [], _confusion(args))
-    T = _q(args.observation, "s", "--observation") if args.observation else mission.design().duration
-    tune = _q(args.tune, "Hz", "--tune") if args.tune else None
-    cadence = _q(args.cadence, "s", "--cadence")
-    overhead = _q(args.overhead, "s", "--overhead", positive=False)
-    _check_outputs(args)
+    T = quantity(args.observation, "s", "--observation") if args.observation else mission.design().duration
+    tune = quantity(args.tune, "Hz", "--tune") if args.tune else None
+    cadence = quantity(args.cadence, "s", "--cadence")
+    overhead = quantity(args.overhead, "s", "--overhead", positive=False)
+    check_outputs(args)
     rows = []
     for src in sources:
         try:
@@ -234,22 +182,17 @@ def cmd_snr(args):
         t["note"] = [r.note for r in rows]
         t.meta.update(provenance(mission.name, digest))
         t.meta["convention"] = "sky-, polarisation- and inclination-averaged SNR; references converted to sky average"
-        _save(t, args.table)
+        save_table(t, args.table)
     return 0
 
 
 def cmd_horizon(args):
-    from astropy.table import Table
-
-    from .horizon import horizon
-    from .snr import clock_snr, reference_snr
-    from .tables import Column, provenance
     mission, digest, curve = _clock(args)
-    masses = [_q(m, "solMass", "--masses") for m in (args.masses or DEFAULT_MASSES)]
-    thr = _number(args.snr, "--snr", lo=1e-6)
+    masses = [quantity(m, "solMass", "--masses") for m in (args.masses or DEFAULT_MASSES)]
+    thr = number(args.snr, "--snr", lo=1e-6)
     refs = _references(args.against if args.against is not None else DEFAULT_AGAINST, _confusion(args))
     T = mission.design().duration
-    _check_outputs(args)
+    check_outputs(args)
     detectors = [(mission.name, lambda s: clock_snr(curve, s, args.schedule, T).snr)]
     for ref, opts in refs:
         detectors.append((ref.label, lambda s, ref=ref, opts=opts: reference_snr(ref, s, T, opts).snr))
@@ -261,38 +204,30 @@ def cmd_horizon(args):
         zs, ds = zip(*[horizon(fn, m, thr) for m in masses])
         key = label.split(" (")[0].lower().replace(" ", "_")
         t[f"z_{key}"] = Column(zs)
-        t[f"distance_{key}"] = Column(np.array(ds) / 3.0856775814913673e22, unit="Mpc")
+        t[f"distance_{key}"] = Column(np.array(ds) / MPC, unit="Mpc")
         print(f"  {label}: " + ", ".join(f"{m:g} Msun: {_reach(z)}" for m, z in zip(masses, zs)))
         series.append((label, np.array(masses), np.array(zs)))
     t.meta.update(provenance(mission.name, digest))
     t.meta.update(snr_threshold=thr, observation_s=T, clock_schedule=args.schedule,
                   note="0 means below threshold at any distance; inf means beyond z = 1000")
     if args.table:
-        _save(t, args.table)
+        save_table(t, args.table)
     if args.plot:
-        from .plotting import plot_lines
-        _figure(args.plot, lambda ax: plot_lines([(lab, x, np.where(np.isfinite(y), y, np.nan)) for lab, x, y in series],
+        save_plot(args.plot, lambda ax: plot_lines([(lab, x, np.where(np.isfinite(y), y, np.nan)) for lab, x, y in series],
                                                  ax=ax, xlabel=r"total mass [$M_\odot$] (source frame)",
                                                  ylabel="horizon redshift"), f"{mission.name}: horizon at SNR {thr:g}")
     return 0
 
 
 def cmd_background(args):
-    from astropy.table import Table
-
-    from . import background as bg
-    from .cli import _grid
-    from .engine import envelope
-    from .tables import Column, provenance
-    from .mission import load_mission
     mission, digest = load_mission(args.mission)
     design = mission.design()
-    f = _grid(args)
+    f = grid(args)
     refs = _references(args.against if args.against is not None else DEFAULT_AGAINST, _confusion(args))
     T = design.duration
-    thr = _number(args.snr, "--snr", lo=1e-6)
+    thr = number(args.snr, "--snr", lo=1e-6)
     lo, hi, steps = _scan(args.scan)
-    _check_outputs(args)
+    check_outputs(args)
     h0 = bg.hubble_constant()
     t = Table()
     t["frequency"] = Column(f, unit="Hz")
@@ -322,12 +257,11 @@ def cmd_background(args):
                              "single detector (Thrane & Romano 2013); PI columns are NaN outside each band")
     print(bg.SCAN_ASSUMPTION)
     i = int(np.argmin(np.where(inscan, pi, np.inf)))
-    print(f"clock: best power-law integrated Omega {pi[i]:.3g} at {f[i]:.3g} Hz (SNR {thr:g}, {T / 3.15576e7:.3g} yr)")
+    print(f"clock: best power-law integrated Omega {pi[i]:.3g} at {f[i]:.3g} Hz (SNR {thr:g}, {T / YEAR:.3g} yr)")
     if args.table:
-        _save(t, args.table)
+        save_table(t, args.table)
     if args.plot:
-        from .plotting import plot_lines
-        _figure(args.plot, lambda ax: plot_lines(series, ax=ax, ylabel=r"$\Omega_{\rm gw}$ (power-law integrated)"),
+        save_plot(args.plot, lambda ax: plot_lines(series, ax=ax, ylabel=r"$\Omega_{\rm gw}$ (power-law integrated)"),
                 f"{mission.name}: stochastic background sensitivity")
     return 0
 
@@ -339,7 +273,6 @@ def _extend(f, values, mask):
 
 
 def _scan(text):
-    from .quantities import parse_frequency
     parts = (text or "").split(":")
     try:
         lo, hi, steps = parse_frequency(parts[0]), parse_frequency(parts[1]), int(parts[2])
@@ -364,7 +297,7 @@ def _reach(z):
     return f"z={z:.3g}"
 
 
-def add_commands(sub, mission_arg, grid_args):
+def add_commands(sub):
     sp = sub.add_parser("references", help="list the reference detectors with their sources and conventions")
     sp.set_defaults(func=cmd_references)
 
@@ -386,8 +319,7 @@ def add_commands(sub, mission_arg, grid_args):
         sp.add_argument("--h0", help="rms strain amplitude of a monochromatic source")
 
     def schedule_arg(sp):
-        # the choices of gwclock.snr.SCHEDULES, written out so that building the parser imports no engine
-        sp.add_argument("--schedule", choices=("fixed", "track", "best"), default="track",
+        sp.add_argument("--schedule", choices=SCHEDULES, default="track",
                         help="clock schedule: one fixed tuning, retuned along the track, or the best of both")
 
     sp = sub.add_parser("track", help="frequency and characteristic-strain track of an inspiral")
@@ -430,39 +362,3 @@ def add_commands(sub, mission_arg, grid_args):
     sp.set_defaults(func=cmd_background)
 
 
-def cmd_plot(args):
-    from pathlib import Path
-
-    from .figspec import load_spec, render_spec, save_spec_figure
-    from .tables import check_output_path
-    spec, digest = load_spec(args.spec)
-    out = args.out or spec.out
-    if not out:
-        out = str(Path(args.spec).with_suffix(".pdf"))
-    elif not args.out:
-        out = str(Path(args.spec).parent / out)
-    check_output_path(out, (".png", ".pdf", ".svg"))
-    fig, artists, prov = render_spec(spec, base_dir=Path(args.spec).parent)
-    save_spec_figure(fig, out, spec, digest, prov)
-    print(f"wrote figure {out} ({len(artists['curves'])} curves)")
-    return 0
-
-
-def cmd_report(args):
-    from .mission import load_mission
-    from .report import build_report
-    mission, digest = load_mission(args.mission)
-    md, html = build_report(mission, digest, args.out)
-    print(f"wrote {md} and {html}")
-    return 0
-
-
-def add_output_commands(sub, mission_arg):
-    sp = sub.add_parser("plot", help="draw a figure from a figure specification (TOML)")
-    sp.add_argument("spec", help="figure specification file")
-    sp.add_argument("--out", help="output file (.pdf, .svg or .png); default from the spec")
-    sp.set_defaults(func=cmd_plot)
-    sp = sub.add_parser("report", help="concept-document report (Markdown and self-contained HTML)")
-    mission_arg(sp)
-    sp.add_argument("--out", required=True, help="output folder (created if its parent exists)")
-    sp.set_defaults(func=cmd_report)

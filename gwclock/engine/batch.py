@@ -1,7 +1,7 @@
 """Evaluating many mission variants at once.
 
 Variants that share their categorical settings (sequence kind, read-out, link path, custom pulse
-times) are stacked into one :class:`~gwclock.mission.Design` whose numeric fields are arrays, one
+times) are stacked into one :class:`~gwclock.physics.design.Design` whose numeric fields are arrays, one
 value per (variant, frequency) point, and go through the engine in a single vectorised pass
 (chunked to bound memory). No Python loop runs per frequency or per variant on this path.
 """
@@ -12,8 +12,11 @@ from dataclasses import fields
 
 import numpy as np
 
-from . import engine, noises
-from .mission import Design
+from ..physics import noises
+from ..physics.design import Design
+from .budget import check_grid
+from .curves import envelope_parts
+from .evaluate import signal_response, total_psd
 
 __all__ = ["batch_budget"]
 
@@ -58,7 +61,7 @@ def batch_budget(designs, frequency, noise_terms=False):
         ``"total"`` of shape (V, F) in 1/Hz and, with ``noise_terms``, one array per noise;
         ``"interrogation"`` and ``"pulses"`` of the chosen sequences.
     """
-    f = engine._check_grid(frequency) if np.ndim(frequency) == 1 and len(frequency) > 1 else np.atleast_1d(
+    f = check_grid(frequency) if np.ndim(frequency) == 1 and len(frequency) > 1 else np.atleast_1d(
         np.asarray(frequency, dtype=float))
     V, F = len(designs), f.size
     out = {"total": np.empty((V, F)), "interrogation": np.empty((V, F)), "pulses": np.empty((V, F))}
@@ -68,9 +71,9 @@ def batch_budget(designs, frequency, noise_terms=False):
         group = [designs[i] for i in idx]
         d = _stack(group, F)
         ff = np.tile(f, len(group))
-        parts = engine._envelope_parts(d, ff)
-        R = engine.signal_response(d, ff)
-        total = engine._total(parts) / R
+        parts = envelope_parts(d, ff)
+        R = signal_response(d, ff)
+        total = total_psd(parts) / R
         out["total"][idx] = total.reshape(len(group), F)
         out["interrogation"][idx] = np.asarray(parts["interrogation"]).reshape(len(group), F)
         out["pulses"][idx] = np.asarray(parts["pulses"]).reshape(len(group), F)

@@ -22,7 +22,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import engine, response
+from ..engine import best_sequence
+from ..engine.evaluate import total_psd
+from ..physics import response
+from ..physics.filters import finite_pulse_factor
+from ..physics.sequences import SEQUENCES
 
 __all__ = ["hubble_constant", "omega_from_strain_psd", "strain_psd_from_omega", "omega_noise",
            "power_law_integrated", "clock_scan_power_law", "SCAN_ASSUMPTION", "BETAS"]
@@ -90,15 +94,13 @@ def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None
     """
     h0 = h0 or hubble_constant()
     fk = np.sort(np.asarray(tunings, dtype=float))
-    best, ok = engine._best_with_fallback(design, fk)
+    best, ok = best_sequence(design, fk)
     if not np.all(ok):
         raise ValueError("some scan tunings cannot be reached")
-    sy = engine._total(best)
+    sy = total_psd(best)
     T = np.asarray(best["interrogation"], dtype=float)
     n = np.asarray(best["pulses"], dtype=float)
     Tc = np.asarray(best["cycle"], dtype=float)
-    from .filters import finite_pulse_factor
-    from .sequences import SEQUENCES
     dd = n > 0
     G0sq = (T * np.sinc(fk * T)) ** 2
     if np.any(dd):

@@ -3,17 +3,17 @@
 from __future__ import annotations
 
 import datetime as _dt
-import os
-import tempfile
 from pathlib import Path
 
+from astropy.table import Column as _Column
+from astropy.table import Table
 
-from . import __version__
-from .errors import InputError
+from .. import __version__
+from ..files import TABLE_FORMATS, atomic_path, check_output_path
+from ..physics.noises import NOISES
+from .ecsv import supported, write_ecsv
 
-__all__ = ["budget_table", "write_table", "atomic_path", "check_output_path", "TABLE_FORMATS"]
-
-TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}
+__all__ = ["budget_table", "provenance", "write_table", "Column", "ENVELOPE_NOTE", "CONVENTION"]
 
 ENVELOPE_NOTE = ("tuned envelope: every frequency uses its own best tuning of the pulse sequence; "
                  "no single tuning reaches this curve at every frequency at once")
@@ -22,7 +22,6 @@ CONVENTION = ("sky- and polarisation-averaged equivalent strain, one-sided "
 
 
 def Column(data, unit=None):
-    from astropy.table import Column as _Column
     return _Column(data, unit=unit)
 
 
@@ -31,9 +30,7 @@ def budget_table(budget, mission_name: str, digest: str):
 
     Read it back with ``QTable.read(path)`` to get Quantity columns.
     """
-    from astropy.table import Table
 
-    from .noises import NOISES
 
     t = Table()
     t["frequency"] = Column(budget.frequency, unit="Hz")
@@ -77,72 +74,8 @@ def provenance(mission_name: str, digest: str) -> dict:
         "version": __version__,
         "mission": mission_name,
         "mission_sha256": digest,
-        "created": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat(),
+        "created": _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat(),
     }
-
-
-_INPUTS: set = set()
-
-
-def register_input(path) -> None:
-    """Remember a file the user gave as input, so that no output can ever overwrite it."""
-    try:
-        _INPUTS.add(Path(path).resolve())
-    except OSError:
-        pass
-
-
-def check_output_path(path, kinds) -> Path:
-    """Refuse an output path whose folder is missing, whose suffix is not one of ``kinds``, or
-    that names one of the run's input files."""
-    p = Path(path)
-    try:
-        if p.resolve() in _INPUTS:
-            raise InputError("is one of this run's input files; choose another output name",
-                             source="command line", field=str(p))
-    except OSError:
-        pass
-    if p.suffix.lower() not in kinds:
-        raise InputError(f"unsupported file type {p.suffix or '(none)'!r}; expected one of {', '.join(kinds)}",
-                         source="command line", field=str(p))
-    parent = p.parent if str(p.parent) else Path(".")
-    if not parent.is_dir():
-        raise InputError("the output folder does not exist", source="command line", field=str(p))
-    if p.is_dir():
-        raise InputError("is a folder; expected a file name", source="command line", field=str(p))
-    return p
-
-
-def check_outputs(args) -> None:
-    """Check a command's ``--table`` and ``--plot`` paths before any work is done."""
-    if getattr(args, "table", None):
-        check_output_path(args.table, TABLE_FORMATS)
-    if getattr(args, "plot", None):
-        check_output_path(args.plot, (".png", ".pdf", ".svg"))
-
-
-class atomic_path:
-    """Context manager yielding a temporary path beside ``target``; renamed onto it on success.
-
-    A failure or an interruption leaves ``target`` as it was (absent, or the previous file).
-    """
-
-    def __init__(self, target):
-        self.target = Path(target)
-
-    def __enter__(self) -> Path:
-        fd, name = tempfile.mkstemp(prefix=f".{self.target.name}.", suffix=f".part{self.target.suffix}",
-                                    dir=self.target.parent if str(self.target.parent) else ".")
-        os.close(fd)
-        self.tmp = Path(name)
-        return self.tmp
-
-    def __exit__(self, exc_type, exc, tb):
-        if exc_type is None:
-            os.replace(self.tmp, self.target)
-        else:
-            self.tmp.unlink(missing_ok=True)
-        return False
 
 
 def write_table(table, path) -> Path:
@@ -151,7 +84,6 @@ def write_table(table, path) -> Path:
     fmt = TABLE_FORMATS[p.suffix.lower()]
     out = table
     if fmt == "ascii.csv":
-        from astropy.table import Table
         out = Table(table, copy=True)
         comments = [f"{k}: {v}" for k, v in table.meta.items()]
         comments += [f"column {c}: unit {out[c].unit or '1'}" for c in out.colnames]
@@ -165,7 +97,6 @@ def write_table(table, path) -> Path:
             if out[c].dtype.kind == "f":
                 out[c].info.format = ".10g"
     kwargs = {"comment": "# "} if fmt == "ascii.csv" else {}
-    from .ecsv import supported, write_ecsv
     with atomic_path(p) as tmp:
         if fmt == "ascii.ecsv" and supported(out):
             with open(tmp, "w") as fh:

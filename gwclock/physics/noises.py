@@ -20,7 +20,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from .constants import c, h
+
+from ..constants import c, h
 
 __all__ = ["PowerLaw", "psd", "received_power", "NOISES", "STATIONARY_NOISES"]
 

@@ -1,153 +1,32 @@
-"""Figure specifications: one TOML file describes a print-ready comparison figure.
+"""Drawing a figure specification (:mod:`gwclock.config.figure_spec`) in print-ready form.
 
-A spec can overlay any number of missions (tuned envelopes or fixed windows), reference
-detectors, inspiral tracks and monochromatic sources, in amplitude-spectral-density,
-characteristic-strain or Omega_gw form, with annotations. A reviewer regenerates the figure from
-the spec alone (`gwclock plot SPEC.toml`). Conventions (sky-averaged, PHYSICS.md sec. 0):
+Conventions (sky-averaged strain, one-sided PSD):
 
 * ``asd``: sqrt(S_n); an inspiral as 2 sqrt(f) |h~| = h_c / sqrt(f); a monochromatic source as
   h0 sqrt(T_obs) (its SNR is the ratio to the curve);
 * ``hc``: h_n = sqrt(f S_n); an inspiral as h_c = 2 f |h~|; a monochromatic source as
-  h0 sqrt(f T_obs);
-* ``omega``: Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) (sources are not drawn in this form).
+  h0 sqrt(f T_obs) (Moore, Cole & Berry 2015, Class. Quantum Grav. 32, 015014);
+* ``omega``: Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) (Thrane & Romano 2013, Phys. Rev. D 88,
+  124032); sources are not drawn in this form.
 """
 
 from __future__ import annotations
 
-import hashlib
 from pathlib import Path
-from typing import Annotated, Any, Literal
 
 import numpy as np
-from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, model_validator
 
-from .errors import InputError
-from .quantities import parse_quantity
+from .. import __version__
+from ..astro.references import get_reference
+from ..astro.sources import MARKS, Inspiral
+from ..config.figure_spec import FONTS, SIZES, FigureSpec
+from ..config.mission import load_mission
+from ..engine import envelope, window
+from ..errors import InputError
+from ..studies.background import hubble_constant
+from .plotting import MISSION_STYLES, NOISE_STYLE, REFERENCE_STYLES, SOURCE_STYLES, save_figure
 
-__all__ = ["FigureSpec", "load_spec", "render_spec", "SIZES"]
-
-SIZES = {"one-column": (3.4, 3.9), "two-column": (7.0, 4.3)}
-FONTS = {"one-column": {"font.size": 6.5, "axes.titlesize": 7, "legend.fontsize": 5},
-         "two-column": {"font.size": 9, "axes.titlesize": 11, "legend.fontsize": 7}}
-
-
-def _hz(value: Any) -> float:
-    x = float(parse_quantity(value, "Hz", allow_plain=True).value)
-    if x <= 0:
-        raise ValueError("expected a positive frequency")
-    return x
-
-
-def _seconds(value: Any) -> float:
-    x = float(parse_quantity(value, "s").value)
-    if x <= 0:
-        raise ValueError("expected a positive time")
-    return x
-
-
-def _metres(value: Any) -> float:
-    x = float(parse_quantity(value, "m").value)
-    if x <= 0:
-        raise ValueError("expected a positive distance")
-    return x
-
-
-Hz = Annotated[float, BeforeValidator(_hz)]
-Seconds = Annotated[float, BeforeValidator(_seconds)]
-Metres = Annotated[float, BeforeValidator(_metres)]
-
-
-class _Item(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True)
-
-
-class MissionItem(_Item):
-    file: str = Field(description="mission file, relative to the spec (or 'default')")
-    mode: Literal["envelope", "window"] = "envelope"
-    tune: Hz | None = Field(None, description="tuning of a window")
-    label: str | None = None
-    noises: bool = Field(False, description="draw the noise budget too")
-    band: float | None = Field(None, gt=0, description="annotate where the ASD is below this level")
-
-    @model_validator(mode="after")
-    def _window_needs_tune(self):
-        if self.mode == "window" and self.tune is None:
-            raise ValueError("a window needs 'tune'")
-        return self
-
-
-class ReferenceItem(_Item):
-    name: str
-    confusion: float | None = Field(None, description="LISA galactic confusion, years")
-    label: str | None = None
-
-
-class TrackItem(_Item):
-    mass1: float = Field(gt=0)
-    mass2: float = Field(gt=0)
-    distance: Metres | None = None
-    redshift: float | None = Field(None, ge=0)
-    label: str | None = None
-    marks: bool = True
-
-    @model_validator(mode="after")
-    def _one_distance(self):
-        if (self.distance is None) == (self.redshift is None):
-            raise ValueError("give exactly one of distance and redshift")
-        return self
-
-
-class PointItem(_Item):
-    frequency: Hz
-    h0: float = Field(gt=0)
-    label: str | None = None
-
-
-class Axes(_Item):
-    fmin: Hz = 1e-5
-    fmax: Hz = 1e3
-    ymin: float | None = Field(None, gt=0)
-    ymax: float | None = Field(None, gt=0)
-    points: int = Field(600, ge=10, le=100_000)
-
-    @model_validator(mode="after")
-    def _ordered(self):
-        if self.fmin >= self.fmax:
-            raise ValueError("fmin must be below fmax")
-        if self.ymin is not None and self.ymax is not None and self.ymin >= self.ymax:
-            raise ValueError("ymin must be below ymax")
-        return self
-
-
-class FigureSpec(_Item):
-    title: str = ""
-    form: Literal["asd", "hc", "omega"] = "asd"
-    size: Literal["one-column", "two-column"] = "two-column"
-    dpi: int = Field(300, ge=50, le=1200)
-    out: str | None = None
-    observation: Seconds = Field(3.15576e7, description="observing time for monochromatic sources")
-    axes: Axes = Axes()
-    mission: list[MissionItem] = []
-    reference: list[ReferenceItem] = []
-    track: list[TrackItem] = []
-    point: list[PointItem] = []
-
-    @model_validator(mode="after")
-    def _something(self):
-        if not (self.mission or self.reference or self.track or self.point):
-            raise ValueError("the figure is empty: add [[mission]], [[reference]], [[track]] or [[point]] tables")
-        return self
-
-
-def load_spec(path):
-    """Read and validate a figure spec; returns (spec, sha256 of the file)."""
-    from .mission import _error_from_validation, read_toml
-    data, raw = read_toml(path, "figure spec")
-    try:
-        spec = FigureSpec.model_validate(data)
-    except ValidationError as exc:
-        raise _error_from_validation(exc, str(path), FigureSpec) from None
-    return spec, hashlib.sha256(raw).hexdigest()[:16]
+__all__ = ["render_spec", "save_spec_figure", "YLABELS"]
 
 
 def _transform(form, f, s_n, h0):
@@ -170,14 +49,6 @@ def render_spec(spec: FigureSpec, base_dir=".", ax=None):
 
 def _render(spec, base_dir, ax):
     from matplotlib.figure import Figure
-
-    from . import __version__
-    from .background import hubble_constant
-    from .engine import envelope, window
-    from .mission import load_mission
-    from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES
-    from .references import get_reference
-    from .sources import MARKS, Inspiral
 
     if ax is None:
         fig = Figure(figsize=SIZES[spec.size], layout="constrained")
@@ -218,7 +89,6 @@ def _render(spec, base_dir, ax):
             label = item.label or f"{mission.name} (tuned to {item.tune:.3g} Hz)"
         ln = line(f, _transform(spec.form, f, b.total, h0), label)
         if item.noises:
-            from .plotting import NOISE_STYLE
             for name, nst in NOISE_STYLE.items():
                 y = _transform(spec.form, f, b.psd[name], h0)
                 (c,) = ax.plot(f, np.where(y > 0, y, np.nan), color=nst["color"], linestyle=nst["linestyle"],
@@ -294,7 +164,6 @@ def save_spec_figure(fig, path, spec, digest, provenance):
     """Save with embedded fonts and provenance metadata, atomically."""
     import matplotlib as mpl
 
-    from .plotting import save_figure
     meta = {"Title": spec.title or "gwclock figure", "Creator": provenance["tool"],
             "Subject": f"spec sha256 {digest}; " + "; ".join(provenance["missions"])}
     with mpl.rc_context({"pdf.fonttype": 42, "ps.fonttype": 42, "svg.fonttype": "path"}):

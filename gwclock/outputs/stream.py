@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import io
 
-from .tables import TABLE_FORMATS, atomic_path, check_output_path
+from astropy.table import Table
+
+from ..files import TABLE_FORMATS, atomic_path, check_output_path
 
 __all__ = ["TableStream"]
 
@@ -26,7 +28,6 @@ class TableStream:
         self.rows = 0
 
     def _render(self, table):
-        from astropy.table import Table
         t = Table(table, copy=False)
         t.meta = dict(self.meta) if self.fmt == "ascii.ecsv" else {"comments": [f"{k}: {v}" for k, v in self.meta.items()]
                                                                      + [f"column {c}: unit {t[c].unit or '1'}" for c in t.colnames]}

@@ -10,10 +10,15 @@ cited parameter of each curve.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Callable
+from pathlib import Path
 
 import numpy as np
+from astropy.table import Table
+
+from ..errors import InputError
+from ..files import register_input
 
 __all__ = ["Reference", "REFERENCES", "get_reference", "lisa_psd", "lisa_confusion", "CONFUSION_PARAMETERS",
            "user_curve"]
@@ -162,14 +167,10 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
     ``psd`` (1/Hz); the convention comes from the argument or the file's ``convention`` meta
     (``sky-averaged`` or ``optimal orientation``, then with ``sky_factor``, default 5/2).
     Interpolated log-log; outside its frequency range the curve is undefined (refused)."""
-    from pathlib import Path
 
-    from astropy.table import Table
 
-    from .errors import InputError
 
     p = Path(path)
-    from .tables import register_input
     register_input(p)
     try:
         if p.suffix.lower() == ".ecsv":

@@ -28,8 +28,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import engine
-from .sources import Inspiral, Monochromatic
+from .. import engine
+from ..astro.sources import Inspiral, Monochromatic
 
 __all__ = ["SNRResult", "broadband_snr", "time_domain_snr", "reference_snr", "clock_snr", "TunedCurve", "SCHEDULES"]
 

@@ -19,6 +19,7 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
+from scipy import integrate
 
 from . import filters
 
@@ -315,7 +316,6 @@ class _UnitSequence:
     """Numerical moments of a custom timing for T = 1 and ideal pulses."""
 
     def __init__(self, fractions):
-        from scipy import integrate
         self.fractions = np.asarray(fractions, dtype=float)
         n = self.fractions.size
         self.n = n

@@ -21,7 +21,8 @@ Robson, T., Cornish, N. J. & Liu, C. 2019, Class. Quantum Grav. 36, 105011.
 from __future__ import annotations
 
 import numpy as np
-from .constants import c
+
+from ..constants import c
 
 __all__ = [
     "phase_lock_transfer",

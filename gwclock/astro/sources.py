@@ -16,24 +16,28 @@ Planck Collaboration 2020, A&A 641, A6 (Planck 2018 cosmology, via astropy's Pla
 
 from __future__ import annotations
 
+import csv
+import difflib
 from dataclasses import dataclass
+from pathlib import Path
 
+import astropy.units as u
 import numpy as np
-from astropy import constants as _const
+
+from ..constants import DAY, MSUN, YEAR, G
+from ..constants import c as C
+from ..errors import InputError
+from ..files import read_toml, register_input
+from ..quantities import parse_quantity
 
 __all__ = [
     "chirp_mass", "Inspiral", "Monochromatic", "redshift_at_distance", "distance_at_redshift",
     "MARKS", "load_sources",
 ]
 
-G = _const.G.value
-C = _const.c.value
-MSUN = _const.M_sun.value
-MPC = 3.0856775814913673e22  # m (IAU 2015: 1 pc = 648000/pi au)
-YEAR = 365.25 * 86400.0
 
 #: Standard marks on a track: time before merger in s.
-MARKS = {"1 yr": YEAR, "1 month": YEAR / 12, "1 day": 86400.0, "1 hour": 3600.0}
+MARKS = {"1 yr": YEAR, "1 month": YEAR / 12, "1 day": DAY, "1 hour": DAY / 24}
 
 
 def chirp_mass(m1, m2):
@@ -51,7 +55,6 @@ def distance_at_redshift(z):
 
 def redshift_at_distance(distance_m):
     """Redshift at a luminosity distance in m (astropy Planck18, by root finding)."""
-    import astropy.units as u
     from astropy.cosmology import Planck18, z_at_value
     d = np.atleast_1d(np.asarray(distance_m, dtype=float))
     z = np.array([0.0 if x <= 0 else float(z_at_value(Planck18.luminosity_distance, x * u.m,
@@ -174,16 +177,11 @@ def load_sources(path):
     (with a unit) or ``redshift``; a monochromatic source has ``frequency`` (with a unit) and
     either ``h0`` or ``mass1``, ``mass2`` and ``distance``.
     """
-    from pathlib import Path
 
-    from .errors import InputError
-    from .quantities import parse_quantity
 
     p = Path(path)
-    from .tables import register_input
     register_input(p)
     if p.suffix.lower() == ".toml":
-        from .mission import read_toml
         data, _ = read_toml(p, "source file")
         rows = data.get("source")
         extra = set(data) - {"source"}
@@ -192,7 +190,6 @@ def load_sources(path):
         if not isinstance(rows, list) or not rows:
             raise InputError("expected one or more [[source]] tables", source=str(p), field="source")
     elif p.suffix.lower() == ".csv":
-        import csv
         try:
             with open(p, newline="") as fh:
                 rows = [{k.strip(): v.strip() for k, v in r.items() if v not in (None, "")}
@@ -214,7 +211,6 @@ def load_sources(path):
             raise InputError("expected a table", source=str(p), field=where)
         bad = set(row) - allowed
         if bad:
-            import difflib
             key = sorted(bad)[0]
             close = difflib.get_close_matches(key, sorted(allowed), n=1)
             hint = f"; did you mean {close[0]!r}?" if close else ""

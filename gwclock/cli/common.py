@@ -1,0 +1,115 @@
+"""What every command shares: the parser class, the mission and grid options, parsing of values
+given on the command line, and writing tables and figures.
+
+Every refusal is an :class:`~gwclock.errors.InputError` naming the option, so that the user sees
+one line and exit code 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+import numpy as np
+
+from .. import __version__
+from ..engine import frequency_grid
+from ..errors import InputError
+from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
+from ..outputs.plotting import save_figure
+from ..outputs.tables import write_table
+from ..quantities import parse_frequency, parse_quantity
+
+__all__ = ["Parser", "mission_arg", "grid_args", "frequency", "grid", "quantity", "number", "check_outputs",
+           "save_table", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]
+
+DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = "1e-5 Hz", "100 Hz", 400
+
+
+class Parser(argparse.ArgumentParser):
+    """An argument parser whose errors are one line and exit code 2."""
+
+    def error(self, message):
+        raise InputError(message, source="command line")
+
+
+def mission_arg(sp):
+    sp.add_argument("mission", nargs="?", default=None, help="mission file (TOML); the built-in default when omitted")
+
+
+def grid_args(sp):
+    sp.add_argument("--fmin", default=DEFAULT_FMIN, help=f"lowest frequency (default {DEFAULT_FMIN})")
+    sp.add_argument("--fmax", default=DEFAULT_FMAX, help=f"highest frequency (default {DEFAULT_FMAX})")
+    sp.add_argument("--points", type=int, default=DEFAULT_POINTS, help="grid points, log-spaced (default 400)")
+    sp.add_argument("--table", help="write the table here (.ecsv or .csv)")
+    sp.add_argument("--plot", help="write the figure here (.png, .pdf or .svg)")
+
+
+def frequency(text, option):
+    """A positive frequency given as text ("5 mHz", or plain Hz)."""
+    try:
+        value = parse_frequency(text)
+    except ValueError as exc:
+        raise InputError(str(exc), source="command line", field=option, value=text) from None
+    if value <= 0:
+        raise InputError("expected a positive frequency", source="command line", field=option, value=text)
+    return value
+
+
+def grid(args):
+    """The log-spaced frequency grid of ``--fmin``, ``--fmax`` and ``--points``."""
+    fmin = frequency(args.fmin, "--fmin")
+    fmax = frequency(args.fmax, "--fmax")
+    if fmin >= fmax:
+        raise InputError(f"--fmin ({fmin:g} Hz) must be below --fmax ({fmax:g} Hz)", source="command line")
+    if not 2 <= args.points <= 10_000_000:
+        raise InputError("expected between 2 and 1e7 points", source="command line", field="--points",
+                         value=args.points)
+    return frequency_grid(fmin, fmax, args.points)
+
+
+def quantity(text, unit, option, positive=True):
+    """A value with units given as text, as a float in ``unit`` (plain numbers allowed for Hz, solMass)."""
+    try:
+        v = float(parse_quantity(text, unit, allow_plain=unit in ("Hz", "solMass")).value)
+    except ValueError as exc:
+        raise InputError(str(exc), source="command line", field=option, value=text) from None
+    if positive and v <= 0:
+        raise InputError("expected a positive value", source="command line", field=option, value=text)
+    return v
+
+
+def number(text, option, lo=0.0):
+    """A plain finite number not below ``lo``."""
+    try:
+        v = float(text)
+    except (TypeError, ValueError):
+        raise InputError("expected a plain number", source="command line", field=option, value=text) from None
+    if not np.isfinite(v) or v < lo:
+        raise InputError(f"expected a number >= {lo:g}", source="command line", field=option, value=text)
+    return v
+
+
+def check_outputs(args) -> None:
+    """Check a command's ``--table`` and ``--plot`` paths before any work is done."""
+    if getattr(args, "table", None):
+        check_output_path(args.table, TABLE_FORMATS)
+    if getattr(args, "plot", None):
+        check_output_path(args.plot, FIGURE_FORMATS)
+
+
+def save_table(table, path):
+    write_table(table, path)
+    print(f"wrote table {path}")
+
+
+def save_plot(path, draw, title, size=(6.4, 4.4), metadata=None):
+    """A new figure, ``draw(ax)`` on it, the title, saved atomically to ``path``."""
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=size, layout="constrained")
+    ax = fig.add_subplot()
+    draw(ax)
+    if title:
+        ax.set_title(title)
+    save_figure(fig, path, metadata={"Title": title, "Creator": f"gwclock {__version__}", **(metadata or {})})
+    print(f"wrote figure {path}")

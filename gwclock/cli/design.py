@@ -1,0 +1,88 @@
+"""Commands about one mission's design: ``check``, ``curve``, ``window`` and ``species``."""
+
+from __future__ import annotations
+
+from ..config.mission import load_mission, mission_from_dict
+from ..engine import envelope, window
+from ..outputs.plotting import plot_budget
+from ..outputs.summary import describe_mission, summarise_budget
+from ..outputs.tables import budget_table
+from ..physics.species import SPECIES
+from .common import check_outputs, frequency, grid, grid_args, mission_arg, save_plot, save_table
+
+__all__ = ["add_commands"]
+
+
+def _write(budget, mission, digest, args):
+    if args.table:
+        save_table(budget_table(budget, mission.name, digest), args.table)
+    if args.plot:
+        kind = "tuned envelope" if budget.mode == "envelope" else "fixed-tuning window"
+        title = f"{mission.name}: {kind} and noise budget"
+        save_plot(args.plot, lambda ax: plot_budget(budget, ax=ax, title=title), None, size=(6.4, 4.2),
+                  metadata={"Title": mission.name, "Subject": f"mission sha256 {digest}"})
+
+
+def _load(args):
+    return load_mission(args.mission)
+
+
+def cmd_check(args):
+    mission, digest = _load(args)
+    print(describe_mission(mission, digest))
+    return 0
+
+
+def cmd_curve(args):
+    mission, digest = _load(args)
+    f = grid(args)
+    check_outputs(args)
+    design = mission.design()
+    budget = envelope(design, f) if design.tune is None else window(design, f)
+    print(summarise_budget(budget, mission.name))
+    _write(budget, mission, digest, args)
+    return 0
+
+
+def cmd_window(args):
+    mission, digest = _load(args)
+    f = grid(args)
+    tune = frequency(args.tune, "--tune")
+    try:
+        mission = mission.clone(**{"sequence.tune": f"{tune!r} Hz"})
+    except Exception:
+        data = mission.model_dump(mode="python")
+        data["sequence"]["tune"] = f"{tune!r} Hz"
+        mission = mission_from_dict(data, "command line --tune")
+    check_outputs(args)
+    budget = window(mission.design(), f)
+    print(summarise_budget(budget, mission.name))
+    _write(budget, mission, digest, args)
+    return 0
+
+
+def cmd_species(args):
+    for s in SPECIES.values():
+        print(f"{s.key:7s} {s.digits} Hz  lifetime {s.lifetime:g} s  {s.transition}")
+        print(f"        frequency: {s.frequency_source}")
+        print(f"        lifetime:  {s.lifetime_source}")
+        if not s.checked:
+            print("        (not yet checked against the source text)")
+    return 0
+
+
+def add_commands(sub):
+    sp = sub.add_parser("check", help="validate a mission file and print it resolved, with units")
+    mission_arg(sp)
+    sp.set_defaults(func=cmd_check)
+    sp = sub.add_parser("curve", help="tuned envelope of the strain sensitivity with its noise budget")
+    mission_arg(sp)
+    grid_args(sp)
+    sp.set_defaults(func=cmd_curve)
+    sp = sub.add_parser("window", help="response at one fixed tuning")
+    mission_arg(sp)
+    sp.add_argument("--tune", required=True, help="tuning frequency, e.g. '0.1 Hz'")
+    grid_args(sp)
+    sp.set_defaults(func=cmd_window)
+    sp = sub.add_parser("species", help="list the clock species presets with their sources")
+    sp.set_defaults(func=cmd_species)

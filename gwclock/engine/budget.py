@@ -1,0 +1,88 @@
+"""The result type of the engine: a strain sensitivity with its noise budget, and the frequency grid
+checks every entry point shares."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..physics.design import Design
+
+__all__ = ["Budget", "frequency_grid", "check_grid"]
+
+
+@dataclass(frozen=True)
+class Budget:
+    """Strain sensitivity and its noise budget on a frequency grid.
+
+    Attributes
+    ----------
+    frequency : ndarray
+        GW frequency in Hz.
+    psd : dict of str -> ndarray
+        Equivalent strain PSD of each noise (1/Hz, sky-averaged); they add to ``total``.
+    total : ndarray
+        Total equivalent strain PSD S_n (1/Hz).
+    tuning : ndarray
+        Tuning frequency of the sequence in Hz (equal to ``frequency`` for an envelope).
+    interrogation, cycle : ndarray
+        Interrogation time T and cycle time Tc in s.
+    pulses : ndarray
+        Number of pi pulses (0 for Ramsey).
+    contrast : ndarray
+        Fringe contrast after decoherence and pulse errors.
+    correlated : ndarray of bool
+        Whether the correlated read-out is in use.
+    mode : str
+        ``"envelope"`` or ``"window"``.
+    design : Design
+    """
+
+    frequency: np.ndarray
+    psd: dict
+    total: np.ndarray
+    tuning: np.ndarray
+    interrogation: np.ndarray
+    cycle: np.ndarray
+    pulses: np.ndarray
+    contrast: np.ndarray
+    correlated: np.ndarray
+    mode: str
+    design: Design = field(repr=False)
+
+    @property
+    def asd(self):
+        """Total strain ASD in Hz^-1/2."""
+        return np.sqrt(self.total)
+
+    def asd_of(self, noise):
+        """Strain ASD of one noise in Hz^-1/2."""
+        return np.sqrt(self.psd[noise])
+
+    @property
+    def characteristic_noise(self):
+        """Noise characteristic strain h_n = sqrt(f S_n) (dimensionless)."""
+        return np.sqrt(self.frequency * self.total)
+
+
+def frequency_grid(fmin, fmax, points):
+    """Logarithmic grid from fmin to fmax inclusive (Hz)."""
+    if not (np.isfinite(fmin) and np.isfinite(fmax)) or fmin <= 0:
+        raise ValueError("fmin and fmax must be positive and finite")
+    if fmin >= fmax:
+        raise ValueError(f"fmin ({fmin:g} Hz) must be below fmax ({fmax:g} Hz)")
+    if int(points) < 2:
+        raise ValueError("points must be at least 2")
+    return np.geomspace(fmin, fmax, int(points))
+
+
+def check_grid(frequency):
+    f = np.asarray(frequency, dtype=float)
+    if f.ndim != 1 or f.size == 0:
+        raise ValueError("frequencies must be a non-empty one-dimensional array")
+    if not np.all(np.isfinite(f)) or np.any(f <= 0):
+        raise ValueError("frequencies must be positive and finite")
+    if np.any(np.diff(f) <= 0):
+        raise ValueError("frequencies must increase strictly (no repeats, sorted)")
+    return f

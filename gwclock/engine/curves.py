@@ -1,0 +1,144 @@
+"""Curves: the tuned envelope and the window of a fixed tuning, the two ways a sequence becomes a
+strain sensitivity.
+
+The *envelope* re-optimises the sequence at every frequency (no single tuning reaches it at all
+frequencies at once); a *window* is the response of one fixed tuning at every frequency. Strain
+PSDs are in the sky-averaged normalisation of Robson, Cornish & Liu (2019, Class. Quantum Grav.
+36, 105011), so that ``SNR^2 = h0^2 T_obs / S_n`` for a monochromatic source."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..physics import noises
+from ..physics.design import Design
+from ..physics.sequences import SEQUENCES
+from .budget import Budget, check_grid
+from .evaluate import signal_response, total_psd
+from .search import RAMSEY, best_of_kind, best_sequence
+
+__all__ = ["envelope", "window", "window_psd", "envelope_parts", "CHUNK"]
+
+#: Frequencies evaluated at once (bounds memory on large grids).
+CHUNK = 4096
+
+
+def _assemble(design, f, tuning, parts, mode, scale=None):
+    Ry = signal_response(design, f)
+    psd = {}
+    for name in noises.NOISES:
+        value = parts[name] if scale is None else parts[name] * scale
+        psd[name] = value / Ry
+    total = sum(psd.values())
+    return Budget(
+        frequency=f, psd=psd, total=total, tuning=np.broadcast_to(tuning, f.shape).astype(float),
+        interrogation=np.broadcast_to(parts["interrogation"], f.shape).astype(float),
+        cycle=np.broadcast_to(parts["cycle"], f.shape).astype(float),
+        pulses=np.broadcast_to(parts["pulses"], f.shape).astype(int),
+        contrast=np.broadcast_to(np.exp(parts["log_contrast"]), f.shape).astype(float),
+        correlated=np.broadcast_to(parts["correlated"], f.shape).astype(bool),
+        mode=mode, design=design,
+    )
+
+
+def window_psd(design: Design, tunings, frequency):
+    """Total strain PSD of many fixed tunings at once: ``S_n(f; f_k)``.
+
+    Parameters
+    ----------
+    design : Design
+    tunings : array_like, shape (K,)
+        Tuning frequencies in Hz (each gets the envelope's best sequence, Ramsey fallback
+        included).
+    frequency : array_like, shape (K, P) or (P,)
+        GW frequencies in Hz at which to evaluate each tuning's window.
+
+    Returns
+    -------
+    (ndarray, dict)
+        ``S_n`` of shape (K, P) in 1/Hz, and the per-tuning sequence (``pulses``,
+        ``interrogation``, ...).
+    """
+    fk = np.atleast_1d(np.asarray(tunings, dtype=float))
+    f = np.asarray(frequency, dtype=float)
+    f = np.broadcast_to(f, (fk.size, f.shape[-1]))
+    best, ok = best_sequence(design, fk)
+    if not np.all(ok):
+        raise ValueError("some tunings cannot be reached by any sequence")
+    sy = total_psd(best)
+    n = np.asarray(best["pulses"], dtype=float)[:, None]
+    T = np.asarray(best["interrogation"], dtype=float)[:, None]
+    kind = SEQUENCES[design.kind]
+    ramsey = n[:, 0] == 0
+    G0 = np.empty(fk.size)
+    Gf = np.empty(f.shape)
+    for mask, k in ((ramsey, RAMSEY), (~ramsey, kind)):
+        if np.any(mask):
+            G0[mask] = k.modulus(design, fk[mask][:, None], n[mask], T[mask])[:, 0]
+            Gf[mask] = k.modulus(design, f[mask], n[mask], T[mask])
+    scale = G0[:, None] ** 2 / np.maximum(Gf**2, 1e-24 * G0[:, None] ** 2)
+    return sy[:, None] * scale / signal_response(design, f), best
+
+
+def envelope(design: Design, frequency) -> Budget:
+    """Tuned envelope: the sequence re-optimised at every frequency.
+
+    Parameters
+    ----------
+    design : Design
+        From :meth:`gwclock.mission.Mission.design`.
+    frequency : array_like
+        Increasing positive frequencies in Hz.
+
+    Returns
+    -------
+    Budget
+        With ``mode == "envelope"``. Where no DD sequence fits (below 1/(2 T_max) or above
+        1/(2 t_pi)) the clock falls back to Ramsey interrogation.
+    """
+    f = check_grid(frequency)
+    return _assemble(design, f, f, envelope_parts(design, f), "envelope")
+
+
+def envelope_parts(design, f):
+    """Best sequence at every point, in chunks (design fields may be arrays matching f)."""
+    pieces = []
+    for start in range(0, f.size, CHUNK):
+        part = slice(start, start + CHUNK)
+        best, _ = best_sequence(design.take(part, f.size), f[part])
+        pieces.append(best)
+    return {k: np.concatenate([p[k] for p in pieces]) for k in pieces[0]}
+
+
+def window(design: Design, frequency, tune: float | None = None) -> Budget:
+    """Response at one fixed tuning: ``S_n(f; f0) = S_y,eq(f0) |G(f0)|^2 / (|G(f)|^2 R_y(f))``.
+
+    Parameters
+    ----------
+    design : Design
+    frequency : array_like
+        Increasing positive frequencies in Hz.
+    tune : float, optional
+        Tuning frequency f0 in Hz (default: the mission's fixed tuning).
+
+    Returns
+    -------
+    Budget
+        With ``mode == "window"``. |G(f)|^2 is floored at 1e-24 |G(f0)|^2 so that the exact
+        zeros of the filter function show as a finite (very poor) sensitivity.
+    """
+    f = check_grid(frequency)
+    f0 = design.tune if tune is None else float(tune)
+    if f0 is None:
+        raise ValueError("a window needs a tuning frequency")
+    kind = SEQUENCES[design.kind]
+    best, ok = best_of_kind(design, kind, np.array([f0]))
+    if not ok[0]:
+        raise ValueError(f"no {design.kind} sequence can be tuned to {f0:g} Hz within max_interrogation "
+                         "and the pi-pulse duration")
+    n, T = float(best["pulses"][0]), float(best["interrogation"][0])
+    G0 = kind.modulus(design, np.array([f0]), n, T)[0]
+    Gf = kind.modulus(design, f, n, T)
+    scale = G0**2 / np.maximum(Gf**2, 1e-24 * G0**2)
+    parts = {k: v[0] for k, v in best.items()}
+    return _assemble(design, f, f0, parts, "window", scale)

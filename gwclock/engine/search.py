@@ -1,0 +1,265 @@
+"""The search for the best sequence at each tuning frequency.
+
+For a CPMG-timed kind the candidates are the analytic optimum of each read-out mode (snapped to
+allowed pulse counts, with both neighbours), the switch point between read-out modes and the ends
+of the allowed range; for Ramsey, a log-spaced ladder plus the analytic candidates, each ladder
+candidate evaluated only where a lower bound does not already lose. :func:`best_sequence` adds the
+Ramsey fallback to the mission's own kind."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..physics import filters, noises, projection
+from ..physics.design import Design
+from ..physics.filters import finite_pulse_factor
+from ..physics.sequences import SEQUENCES, Periodic, Ramsey, closed_form_red, optimal_interrogation
+from .evaluate import evaluate, linear_noise, pick, projection_term, total_psd
+from .optimum import continuous_optimum
+
+__all__ = ["optimise", "best_of_kind", "best_sequence", "RAMSEY"]
+
+RAMSEY = SEQUENCES["ramsey"]
+#: Ramsey aliasing with only the harmonic nearest zero and no tail: a strict lower bound of the full sum.
+RAMSEY_FLOOR = Ramsey(harmonics=0, tail=False)
+#: Log-spaced Ramsey interrogation candidates (the first rows of the Ramsey candidate list).
+RAMSEY_LADDER = 16
+
+
+def _periodic_wishes(design, kind, f0, linear):
+    """Candidate interrogation times for a CPMG-timed kind: the analytic optimum of each read-out
+    mode, both sides of the linear/correlated switch, and the ends of the allowed range."""
+
+    lo = kind.min_pulses() / (2 * f0)
+    hi = np.broadcast_to(design.max_interrogation, f0.shape)
+    eps = -np.log1p(-kind.pulse_error(design))
+    tau_e = 1 / (1 / design.coherence_time + 2 * f0 * eps)
+    G0fac = (2 / np.pi) ** 2 * finite_pulse_factor(2 * f0 * design.pi_pulse_duration) ** 2
+    U = sum(linear[name][0] for name in noises.STATIONARY_NOISES)
+    V = sum(linear[name][1] for name in noises.STATIONARY_NOISES)
+    a, b = 2 * U / G0fac, 2 * V / G0fac
+    base = 4 / (design.atom_number * (2 * np.pi * design.nu0) ** 2 * G0fac)
+    t_qpn = np.clip(optimal_interrogation(tau_e, design.dead_time), lo, hi)
+    wishes = []
+    if design.comparison in ("linear", "auto"):
+        wishes.append(continuous_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau_e))
+    if design.comparison in ("correlated", "auto"):
+        t_guess = wishes[0] if wishes else t_qpn
+        kappa = projection.correlation_penalty(np.exp(-t_guess / tau_e))
+        wishes.append(continuous_optimum(design, t_qpn, hi, a, b, base * kappa, tau_e))
+    if design.comparison == "auto":
+        cm1 = kind.common_mode(design, (), f0, 1.0, 1.0, linear=linear["common"])
+        with np.errstate(divide="ignore"):
+            t_sw = np.where(cm1 > 0, projection.CORRELATED_THRESHOLD / cm1, hi)
+        wishes.append(np.clip(t_sw, lo, hi))
+    step = kind.step / (4 * f0)
+    out = [lo, hi]
+    for w in wishes:
+        out += [w - step, w + step]
+    return np.stack(np.broadcast_arrays(*out))
+
+
+def _ramsey_wishes(design, f0):
+    """Candidate Ramsey interrogation times: the analytic optimum of projection plus white and
+    white-phase noise (|G(f0)| ~ T at low frequency) for each read-out mode, and the range ends;
+    ``snap`` moves long ones onto a lobe maximum of |sin(pi f0 T)|."""
+    hi = np.broadcast_to(design.max_interrogation, np.shape(f0)).astype(float)
+    lo = np.broadcast_to(np.maximum(1e-3 * design.max_interrogation, 2.5 * design.pi_pulse_duration),
+                         np.shape(f0)).astype(float)
+    tau = np.broadcast_to(design.coherence_time, np.shape(f0)).astype(float)
+    a = 0.0
+    b = 0.0
+    for terms_of in noises.STATIONARY_NOISES.values():
+        for term in terms_of(design):
+            if term.alpha == 0:
+                a = a + term.level * np.where(np.asarray(term.low) > 0, 0.0, 1.0)
+            elif term.alpha == 2:
+                b = b + 2 * term.level * np.maximum(term.cutoff - term.low, 0.0) / (2 * np.pi**2)
+    base = 4 / (design.atom_number * (2 * np.pi * design.nu0) ** 2)
+    t_qpn = np.clip(optimal_interrogation(tau, design.dead_time), lo, hi)
+    x = np.linspace(0.0, 1.0, RAMSEY_LADDER).reshape((-1,) + (1,) * np.ndim(f0))
+    wishes = list(lo * (hi / lo) ** x) + [t_qpn, 1 / (2 * f0)]
+    if design.comparison in ("linear", "auto"):
+        wishes.append(continuous_optimum(design, t_qpn, hi, a, b, base * design.squeezing, tau))
+    if design.comparison in ("correlated", "auto"):
+        kappa = projection.correlation_penalty(np.exp(-t_qpn / tau))
+        wishes.append(continuous_optimum(design, t_qpn, hi, a, b, base * kappa, tau))
+    if design.comparison == "auto":
+        cm1 = RAMSEY.common_mode(design, noises.laser_terms(design), f0, 0.0, 1.0)
+        with np.errstate(divide="ignore"):
+            wishes.append(np.clip(np.where(cm1 > 0, projection.CORRELATED_THRESHOLD / cm1, hi), lo, hi))
+    return np.stack(np.broadcast_arrays(*wishes))
+
+
+def best_of_kind(design, kind, f0):
+    """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity."""
+    f0 = np.asarray(f0, dtype=float)
+    linear = linear_noise(design, kind, f0) if isinstance(kind, Periodic) else None
+    if isinstance(kind, Periodic) and kind.fixed is None:
+        wish = _periodic_wishes(design, kind, f0, linear)
+    elif kind.dd:  # echo, custom: one sequence per tuning
+        wish = (1.0 / (2 * f0))[None]
+    else:
+        return _best_ramsey(design, kind, f0)
+    n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
+    parts = evaluate(design, kind, f0, n, T, linear)
+    score = np.where(valid, total_psd(parts), np.inf)
+    i = np.argmin(score, axis=0)
+    best = pick(parts, i)
+    ok = np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
+    return best, ok
+
+
+def _safe(design, kind, f0, n, T, valid):
+    """Replace candidates that are not allowed by harmless ones (they are discarded anyway), so
+    that no absurd interrogation is ever evaluated."""
+    T_ok = np.minimum(T, design.max_interrogation)
+    n_ok = np.where(valid, n, 0.0 if not kind.dd else np.maximum(np.round(2 * f0 * T_ok), 1.0))
+    return n_ok, np.where(valid, T, T_ok), valid
+
+
+def _best_ramsey(design, kind, f0):
+    """Ramsey: the best of the analytic candidates and the log-spaced ladder, each with its exact
+    aliasing sum; a ladder candidate is evaluated only where its projection noise alone does not
+    already lose to the analytic candidates."""
+    wish = _ramsey_wishes(design, f0)
+    n, T, valid = _safe(design, kind, f0, *kind.snap(design, f0, wish))
+    return _best_ramsey_pruned(design, f0, n, T, valid)
+
+
+def _open_red_noise(design):
+    """Whether some nonzero red-noise term needs Ramsey's explicit harmonic sum (no closed form)."""
+    return any(term.alpha < 0 and np.any(term.level) and not closed_form_red(term)
+               for terms_of in noises.STATIONARY_NOISES.values() for term in terms_of(design))
+
+
+def _ramsey_projection_of(design, f0, T):
+    """A lower bound of the Ramsey S_y,eq of interrogation T at f0: its projection noise with the
+    smaller of the two read-out factors (xi^2 or kappa >= 1), with the engine's own contrast clamp."""
+    var = projection.phase_variance(design.atom_number, -T / design.coherence_time, np.minimum(design.squeezing, 1.0))
+    return projection_term(design, T + design.dead_time, var, filters.ramsey_filter_modulus(f0, T) ** 2)
+
+
+def _best_ramsey_pruned(design, f0, n, T, valid):
+    """Best Ramsey candidate: evaluate the analytic candidates, then only the ladder candidates
+    whose lower bounds (projection noise alone; then the budget without the explicit harmonics)
+    do not already lose to them. The others cannot win: the result is the same as evaluating
+    them all."""
+    k = RAMSEY_LADDER
+    K, F = T.shape
+    head = evaluate(design, RAMSEY, f0, n[k:], T[k:])
+    head_score = np.where(valid[k:], total_psd(head), np.inf)
+    best = np.min(head_score, axis=0)
+    with np.errstate(divide="ignore", over="ignore"):
+        bound = _ramsey_projection_of(design, f0, T[:k])
+    alive = valid[:k] & ~(bound > best * (1 + 1e-9))
+    ki, pi = np.nonzero(alive)
+    if _open_red_noise(design):
+        # a second, tighter bound before the explicit harmonic sums: the same budget with only the
+        # harmonic nearest zero frequency of each red term that has no closed form
+        low = total_psd(evaluate(design.take(pi, F), RAMSEY_FLOOR, f0[pi], n[ki, pi], T[ki, pi]))
+        keep = ~(low > best[pi] * (1 + 1e-9))
+        ki, pi = ki[keep], pi[keep]
+    tail = evaluate(design.take(pi, F), RAMSEY, f0[pi], n[ki, pi], T[ki, pi])
+    score = np.full((K, F), np.inf)
+    score[k:] = head_score
+    score[ki, pi] = total_psd(tail)
+    i = np.argmin(score, axis=0)
+    # gather the winner's parts from the analytic block or from the flat list of ladder survivors
+    where = np.zeros((k, F), dtype=np.intp)
+    where[ki, pi] = np.arange(ki.size)
+    point = np.arange(F)
+    from_head = i >= k
+    hi_row = np.where(from_head, i - k, 0)
+    tail_at = where[np.where(from_head, 0, i), point]
+    out = {}
+    for key, value in head.items():
+        value = np.broadcast_to(np.asarray(value), (K - k, F))
+        picked = value[hi_row, point]
+        if ki.size:
+            picked = np.where(from_head, picked, np.asarray(tail[key])[tail_at])
+        out[key] = picked
+    return out, np.isfinite(score[i, point])
+
+
+def optimise(design: Design, f0, kind: str | None = None):
+    """Best sequence of one kind at each tuning f0 (no Ramsey fallback).
+
+    Parameters
+    ----------
+    design : Design
+    f0 : array_like
+        Tuning frequencies in Hz (1-D).
+    kind : str, optional
+        Sequence kind (default: the mission's).
+
+    Returns
+    -------
+    (dict, ndarray of bool)
+        Per-f0 arrays as from :func:`evaluate` for the chosen sequence, and whether any
+        sequence of that kind reaches f0.
+    """
+    return best_of_kind(design, SEQUENCES[kind or design.kind], np.atleast_1d(np.asarray(f0, dtype=float)))
+
+
+def best_sequence(design, f0):
+    """Best sequence at each f0: the mission's kind, or Ramsey where no DD sequence fits or
+    where Ramsey does better (at low frequency, and where pulse leakage of white phase noise
+    outweighs the longer DD interrogation)."""
+    kind = SEQUENCES[design.kind]
+    if isinstance(kind, Ramsey):
+        return best_of_kind(design, kind, f0)
+    # a DD sequence exists at f0 exactly when the longest wished interrogation snaps to a valid one
+    reach = kind.snap(design, f0, np.broadcast_to(design.max_interrogation, f0.shape))[2]
+    if np.all(reach):
+        best, ok = best_of_kind(design, kind, f0)
+    else:
+        best, ok = _scatter(best_of_kind(design.take(reach, f0.size), kind, f0[reach]), reach)
+    # Ramsey cannot win where even a strict lower bound of its projection noise exceeds the DD total
+    look = ~ok | (_ramsey_projection_bound(design, f0) < total_psd(best))
+    if not np.any(look):
+        return best, ok
+    sub = design.take(look, f0.size)
+    rb, rok = best_of_kind(sub, RAMSEY, f0[look])
+    idx = np.flatnonzero(look)
+    take = rok & (~ok[look] | (total_psd(rb) < total_psd({k: np.asarray(v)[look] for k, v in best.items()})))
+    if np.any(take):
+        best = {k: np.array(v) for k, v in best.items()}
+        for k in best:
+            best[k][idx[take]] = np.asarray(rb[k])[take]
+        ok = ok.copy()
+        ok[idx[take]] = True
+    lost = ~reach & ~ok  # neither kind fits: report the (invalid) DD candidate, as where DD was tried
+    if np.any(lost):
+        dd, _ = best_of_kind(design.take(lost, f0.size), kind, f0[lost])
+        for k in best:
+            best[k][lost] = np.asarray(dd[k])
+    return best, ok
+
+
+def _scatter(result, mask):
+    """Per-point results computed on ``mask`` placed into full-size arrays (NaN / invalid elsewhere)."""
+    part, part_ok = result
+    out = {}
+    for k, v in part.items():
+        v = np.asarray(v)
+        full = np.full(mask.shape, np.nan if v.dtype.kind == "f" else 0, dtype=v.dtype)
+        full[mask] = v
+        out[k] = full
+    ok = np.zeros(mask.shape, dtype=bool)
+    ok[mask] = part_ok
+    return out, ok
+
+
+def _ramsey_projection_bound(design, f0):
+    """A strict lower bound of the Ramsey S_y,eq at f0: the projection term 2 Tc sigma^2 /
+    ((2 pi nu0)^2 |G|^2) with C = 1, the smallest read-out penalty, and |G|^2 <= min(T^2, 1/(pi f0)^2),
+    minimised over T in the allowed range (the other noises only add)."""
+    lo = 2 * design.pi_pulse_duration  # the shortest Ramsey interrogation ``snap`` accepts
+    hi = design.max_interrogation
+    Td = design.dead_time
+    w = np.pi * f0
+    cross = np.clip(1.0 / w, lo, hi)  # where 1/T^2 meets (pi f0)^2, inside the range
+    g = np.maximum((cross + Td) / cross**2, (cross + Td) * w**2)  # the least Tc / |G|^2
+    var = projection.phase_variance(design.atom_number, 0.0, np.minimum(design.squeezing, 1.0))
+    return projection_term(design, g, var, 1.0)

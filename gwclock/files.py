@@ -1,0 +1,106 @@
+"""Files the user gives and files gwclock writes.
+
+Every input file is remembered (:func:`register_input`) so that no output can overwrite it;
+every output path is checked before any work is done (:func:`check_output_path`) and written
+through a temporary file renamed onto it on success (:class:`atomic_path`), so that a failure
+or an interruption leaves no partial file and keeps the previous one.
+"""
+
+from __future__ import annotations
+
+import os
+import tempfile
+import tomllib
+from pathlib import Path
+
+from .errors import InputError
+
+__all__ = ["TABLE_FORMATS", "FIGURE_FORMATS", "register_input", "is_input", "check_output_path",
+           "atomic_path", "read_toml"]
+
+#: Table suffixes and the astropy writer of each.
+TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}
+#: Figure suffixes matplotlib writes.
+FIGURE_FORMATS = (".png", ".pdf", ".svg")
+
+_INPUTS: set[Path] = set()
+
+
+def register_input(path) -> None:
+    """Remember a file the user gave as input, so that no output can ever overwrite it."""
+    try:
+        _INPUTS.add(Path(path).resolve())
+    except OSError:
+        pass
+
+
+def is_input(path) -> bool:
+    """Whether ``path`` names one of this run's input files."""
+    try:
+        return Path(path).resolve() in _INPUTS
+    except OSError:
+        return False
+
+
+def check_output_path(path, kinds) -> Path:
+    """Refuse an output path whose folder is missing, whose suffix is not one of ``kinds``, or
+    that names one of the run's input files."""
+    p = Path(path)
+    if is_input(p):
+        raise InputError("is one of this run's input files; choose another output name",
+                         source="command line", field=str(p))
+    if p.suffix.lower() not in kinds:
+        raise InputError(f"unsupported file type {p.suffix or '(none)'!r}; expected one of {', '.join(kinds)}",
+                         source="command line", field=str(p))
+    parent = p.parent if str(p.parent) else Path(".")
+    if not parent.is_dir():
+        raise InputError("the output folder does not exist", source="command line", field=str(p))
+    if p.is_dir():
+        raise InputError("is a folder; expected a file name", source="command line", field=str(p))
+    return p
+
+
+class atomic_path:
+    """Context manager yielding a temporary path beside ``target``; renamed onto it on success.
+
+    A failure or an interruption leaves ``target`` as it was (absent, or the previous file).
+    """
+
+    def __init__(self, target):
+        self.target = Path(target)
+
+    def __enter__(self) -> Path:
+        fd, name = tempfile.mkstemp(prefix=f".{self.target.name}.", suffix=f".part{self.target.suffix}",
+                                    dir=self.target.parent if str(self.target.parent) else ".")
+        os.close(fd)
+        self.tmp = Path(name)
+        return self.tmp
+
+    def __exit__(self, exc_type, exc, tb):
+        if exc_type is None:
+            os.replace(self.tmp, self.target)
+        else:
+            self.tmp.unlink(missing_ok=True)
+        return False
+
+
+def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
+    """Read and parse a TOML input file (remembered as an input); every failure is an
+    :class:`~gwclock.errors.InputError` naming the file."""
+    p = Path(path)
+    register_input(p)
+    try:
+        raw = p.read_bytes()
+    except FileNotFoundError:
+        raise InputError(f"{what} not found", source=str(p)) from None
+    except IsADirectoryError:
+        raise InputError(f"expected a {what}, found a folder", source=str(p)) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the {what} ({exc.strerror})", source=str(p)) from None
+    try:
+        text = raw.decode("utf-8")
+        return tomllib.loads(text), raw
+    except UnicodeDecodeError:
+        raise InputError("not UTF-8 text; expected a TOML file", source=str(p)) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"TOML syntax error: {exc}", source=str(p)) from None

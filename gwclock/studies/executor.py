@@ -1,0 +1,135 @@
+"""Running a sweep: grid points in chunks, on one process, local worker processes, or a
+dask.distributed cluster, with finished chunks handed on in grid order.
+
+The result does not depend on how the work is spread: every chunk is a pure function of the
+mission, the axes, the metrics and the grid points it holds (Monte-Carlo seeds come from the
+point's index in the grid).
+"""
+
+from __future__ import annotations
+
+import itertools
+import sys
+import time
+
+import numpy as np
+from astropy.table import Table
+
+from .sweep import evaluate_points, parse_metric, perturbed_metrics, point
+
+__all__ = ["run_sweep", "chunk_rows", "Progress", "CHUNK_POINTS"]
+
+#: Grid points evaluated together (one task for a worker).
+CHUNK_POINTS = 64
+
+
+class Progress:
+    """A one-line progress counter on stderr, only on a terminal and without --quiet."""
+
+    def __init__(self, total, quiet):
+        self.total = total
+        self.on = not quiet and sys.stderr.isatty()
+        self.done = 0
+        self.t0 = time.monotonic()
+
+    def update(self, n):
+        self.done += n
+        if self.on:
+            rate = self.done / max(time.monotonic() - self.t0, 1e-9)
+            sys.stderr.write(f"\r  {self.done}/{self.total} points ({rate:.0f}/s)")
+            sys.stderr.flush()
+
+    def close(self):
+        if self.on:
+            sys.stderr.write("\n")
+
+
+def chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed):
+    """Evaluate one chunk of grid points; returns an astropy Table (runs in workers too)."""
+    metrics = [parse_metric(t) for t in metric_texts]
+    sub = [point(mission, axes, combo) for combo in combos]
+    valid = [(c, m) for c, m, r in sub if m is not None]
+    if perturb:
+        values = {col: np.full(len(sub), np.nan) for m in metrics for col in m.columns}
+        lows = {col: np.full(len(sub), np.nan) for col in values}
+        highs = {col: np.full(len(sub), np.nan) for col in values}
+        for j, (c, m, r) in enumerate(sub):
+            if m is None:
+                continue
+            stats, _ = perturbed_metrics(m, metrics, perturb, samples, seed + _index(axes, c))
+            for col, (med, p5, p95) in stats.items():
+                values[col][j], lows[col][j], highs[col][j] = med, p5, p95
+    else:
+        res = evaluate_points([m.design() for _, m in valid], metrics)
+        values = {col: np.full(len(sub), np.nan) for col in res}
+        rows = [j for j, (c, m, r) in enumerate(sub) if m is not None]
+        for col, v in res.items():
+            values[col][rows] = v
+    t = Table()
+    for k, a in enumerate(axes):
+        t[a.field] = np.array([a.values[c[k]] for c, _, _ in sub])
+        if a.unit:
+            t[a.field].unit = a.unit
+    for m in metrics:
+        for col, unit in zip(m.columns, m.units):
+            t[col] = values[col]
+            if unit:
+                t[col].unit = unit
+            if perturb:
+                t[col + "_p05"], t[col + "_p95"] = lows[col], highs[col]
+                if unit:
+                    t[col + "_p05"].unit = t[col + "_p95"].unit = unit
+    t["status"] = [r or "ok" for _, _, r in sub]
+    return t
+
+
+def _index(axes, combo):
+    i = 0
+    for a, c in zip(axes, combo):
+        i = i * len(a.texts) + c
+    return i
+
+
+def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb=(), samples=200, seed=12345,
+              sink=None, quiet=True):
+    """Run a sweep; feed finished chunks, in grid order, to ``sink(table)``. Returns row count."""
+    combos = list(itertools.product(*[range(len(a.texts)) for a in axes]))
+    chunks = [combos[i:i + CHUNK_POINTS] for i in range(0, len(combos), CHUNK_POINTS)]
+    args = (mission, axes, list(metric_texts))
+    progress = Progress(len(combos), quiet)
+    rows = 0
+
+    def emit(table):
+        nonlocal rows
+        sink(table)
+        rows += len(table)
+        progress.update(len(table))
+
+    try:
+        if scheduler:
+            from distributed import Client
+            with Client(scheduler, timeout="20s") as client:
+                window = []
+                pending = iter(chunks)
+                limit = max(4, 2 * len(client.nthreads()))
+                for ch in itertools.islice(pending, limit):
+                    window.append(client.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed, pure=False))
+                while window:
+                    fut = window.pop(0)
+                    emit(fut.result())
+                    del fut
+                    nxt = next(pending, None)
+                    if nxt is not None:
+                        window.append(client.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed, pure=False))
+        elif workers > 1:
+            from concurrent.futures import ProcessPoolExecutor
+            with ProcessPoolExecutor(workers) as pool:
+                futures = [pool.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed) for ch in chunks]
+                for fut in futures:
+                    emit(fut.result())
+        else:
+            for ch in chunks:
+                emit(chunk_rows(*args, ch, tuple(perturb), samples, seed))
+    finally:
+        progress.close()
+    return rows
