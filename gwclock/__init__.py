@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import importlib
 
-__version__ = "0.1.0"
+from .version import __version__
 
 #: Public name -> the module that defines it (imported on first use: ``import gwclock`` stays cheap).
 _EXPORTS = {

@@ -8,10 +8,20 @@ from __future__ import annotations
 
 import subprocess
 import sys
+import tempfile
 import time
 import tracemalloc
 
 import numpy as np
+from astropy.table import vstack
+from scipy import integrate
+
+from .config.mission import load_mission
+from .engine import envelope
+from .engine.batch import batch_budget
+from .physics.response import link_response
+from .studies.executor import run_sweep
+from .studies.sweep import parse_vary
 
 
 def _best_time(fn, repeat=3):
@@ -24,13 +34,6 @@ def _best_time(fn, repeat=3):
 
 
 def main() -> int:
-    from scipy import integrate
-
-    from .config.mission import load_mission
-    from .engine import envelope
-    from .engine.batch import batch_budget
-    from .physics.response import link_response
-
     failures = []
     mission, _ = load_mission(None)
     design = mission.design()
@@ -84,15 +87,12 @@ def main() -> int:
     def wall(cmd):
         return _best_time(lambda: subprocess.run(cmd, check=True, capture_output=True), repeat=5)
 
-    import tempfile
     with tempfile.TemporaryDirectory() as tmp:
         t_cli = wall([sys.executable, "-m", "gwclock", "curve", "--table", f"{tmp}/t.ecsv"])
     t_imp = wall([sys.executable, "-c", "import numpy, scipy.special, astropy.units, astropy.table, pydantic"])
     print(f"cli_curve_wall: {t_cli / t_imp:.2f} x the bare imports ({t_cli:.2f} s vs {t_imp:.2f} s) (target: <= 1.25 x)")
 
     # (e) two local workers vs one on a large sweep
-    from .cli.study import run_sweep
-    from .studies.sweep import parse_vary
     axes = [parse_vary("clock.atom_number=1e4:1e7:64:log", mission), parse_vary("link.baseline=1e9 m:1e11 m:48:log", mission)]
     tables = {}
 
@@ -104,7 +104,6 @@ def main() -> int:
     t1 = _best_time(lambda: sweep(1), repeat=1)
     t2 = _best_time(lambda: sweep(2), repeat=1)
     print(f"workers_speedup: {t1 / t2:.2f} x with --workers 2 over 1 ({t1:.1f} s vs {t2:.1f} s) (target: >= 1.6 x on 2 cores)")
-    from astropy.table import vstack
     a, b = vstack(tables[1]), vstack(tables[2])
     if not all(np.array_equal(a[c], b[c], equal_nan=a[c].dtype.kind == "f") for c in a.colnames):
         failures.append("the two-worker sweep differs from the one-worker sweep")

@@ -135,7 +135,8 @@ def test_reference_export_in_both_conventions(tmp_path, capsys):
                 "--table", b], capsys)[0] == 0
     ta, tb = QTable.read(a), QTable.read(b)
     assert ta.meta["convention"] == "optimal orientation" and tb.meta["convention"] == "sky-averaged"
-    # sky average of a 90-degree interferometer: PSD x 5/2 (derivation: sky-averaged response 2/5 of an L-shaped detector, Robson, Cornish & Liu 2019, CQG 36, 105011, sec. 2)
+    # sky average of a 90-degree interferometer: PSD x 5/2 (derivation: sky-averaged response 2/5
+    # of an L-shaped detector, Robson, Cornish & Liu 2019, CQG 36, 105011, sec. 2)
     np.testing.assert_allclose((tb["asd"] / ta["asd"]) ** 2, 2.5, rtol=1e-5, atol=0)
     assert ta.colnames == ["frequency", "asd"]
 

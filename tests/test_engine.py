@@ -11,9 +11,8 @@ import numpy as np
 import pytest
 
 from gwclock import engine
-from gwclock.engine import curves
 from gwclock.config.mission import load_mission
-from gwclock.engine import envelope, evaluate, optimise, window
+from gwclock.engine import curves, envelope, evaluate, optimise, window
 from gwclock.physics.filters import periodic_filter_modulus
 from gwclock.physics.response import link_response
 from gwclock.physics.sequences import SEQUENCES

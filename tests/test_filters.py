@@ -63,7 +63,7 @@ def test_against_numerical_fourier_transform_of_g(tp):
     times = np.array([0.2, 0.45, 0.8])
     breaks = sorted({0.0, T, *(times - tp / 2), *(times + tp / 2)})
     for f in (0.3, 1.1, 4.2):
-        def part(fun):
+        def part(fun, f=f):
             return sum(integrate.quad(lambda t: sensitivity_function(t, T, times, tp) * fun(2 * np.pi * f * t),
                                       a, b, limit=200)[0] for a, b in zip(breaks, breaks[1:]))
         num = part(np.cos) - 1j * part(np.sin)

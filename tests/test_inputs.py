@@ -13,9 +13,9 @@ from astropy import constants as const
 from gwclock.astro.references import user_curve
 from gwclock.astro.sources import Inspiral, Monochromatic, load_sources
 from gwclock.config.figure_spec import load_spec
-from gwclock.outputs.figures import render_spec
 from gwclock.constants import MPC
 from gwclock.errors import InputError
+from gwclock.outputs.figures import render_spec
 from gwclock.quantities import parse_quantity
 
 CURVE_HEAD = "# convention: optimal orientation\n"

@@ -8,6 +8,7 @@ import textwrap
 
 import astropy.units as u
 import pytest
+from pydantic import ValidationError
 
 from gwclock.config.mission import Mission, load_mission, mission_from_dict
 from gwclock.errors import InputError
@@ -71,7 +72,7 @@ def test_clone_revalidates():
     m, _ = load_mission(None)
     m2 = m.clone(**{"clock.atom_number": 1e6})
     assert m2.clock.atom_number == 1e6
-    with pytest.raises(Exception):
+    with pytest.raises(ValidationError):
         m.clone(**{"clock.atom_number": -1})
 
 

@@ -14,8 +14,8 @@ import pytest
 
 from gwclock.cli import main
 from gwclock.config.figure_spec import load_spec
-from gwclock.outputs.figures import render_spec
 from gwclock.errors import InputError
+from gwclock.outputs.figures import render_spec
 
 from .conftest import MISSIONS, ROOT
 

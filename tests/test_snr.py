@@ -11,11 +11,11 @@ import pytest
 from astropy import constants as const
 from scipy import integrate
 
-from gwclock.studies import background as bg
 from gwclock.astro.references import get_reference
 from gwclock.astro.sources import Inspiral, Monochromatic
 from gwclock.config.mission import load_mission
 from gwclock.constants import MPC
+from gwclock.studies import background as bg
 from gwclock.studies.horizon import horizon
 from gwclock.studies.snr import TunedCurve, broadband_snr, clock_snr, reference_snr, time_domain_snr
 
@@ -72,7 +72,8 @@ class TestClockSchedules:
         assert clock_snr(curve, m, "fixed", T).snr == pytest.approx(1e-20 * np.sqrt(T / s), rel=1e-9, abs=0)
 
     def test_tracking_a_slow_chirp_reaches_the_envelope_integral(self, curve):
-        # retuning that follows f(t) gives SNR^2 = integral 4 |h~|^2 / S_n^env df (stationary phase, Cutler & Flanagan 1994, PRD 49, 2658, from memory)
+        # retuning that follows f(t) gives SNR^2 = integral 4 |h~|^2 / S_n^env df (stationary phase,
+        # Cutler & Flanagan 1994, PRD 49, 2658, from memory)
         b = Inspiral.from_masses(1e4, 1e4, redshift=1.0)
         T = 1e7
         r = clock_snr(curve, b, "track", T, cadence=60.0)

@@ -216,7 +216,7 @@ def load_sources(path):
             hint = f"; did you mean {close[0]!r}?" if close else ""
             raise InputError(f"unknown key{hint}", source=str(p), field=f"{where}.{key}")
 
-        def num(key, lo=0.0):
+        def num(key, lo=0.0, row=row, where=where):
             try:
                 x = float(row[key])
             except KeyError:
@@ -227,7 +227,7 @@ def load_sources(path):
                 raise InputError(f"expected a number > {lo:g}", source=str(p), field=f"{where}.{key}", value=row[key])
             return x
 
-        def qty(key, unit):
+        def qty(key, unit, row=row, where=where):
             try:
                 return float(parse_quantity(row[key], unit).value)
             except KeyError:

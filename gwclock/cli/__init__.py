@@ -6,10 +6,12 @@ one line on stderr and exit code 2 (``--debug`` shows the traceback).
 
 from __future__ import annotations
 
+import signal
 import sys
+import threading
 
-from .. import __version__
 from ..errors import InputError
+from ..version import __version__
 from . import design, documents, science, study
 from .common import Parser
 
@@ -53,8 +55,6 @@ def build_parser():
 
 def _stop_politely_on_sigterm():
     """Turn SIGTERM into KeyboardInterrupt so that partial outputs are cleaned up."""
-    import signal
-    import threading
     if threading.current_thread() is threading.main_thread():
         def stop(signum, frame):
             raise KeyboardInterrupt

@@ -11,13 +11,13 @@ import argparse
 
 import numpy as np
 
-from .. import __version__
 from ..engine import frequency_grid
 from ..errors import InputError
 from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
 from ..outputs.plotting import save_figure
 from ..outputs.tables import write_table
 from ..quantities import parse_frequency, parse_quantity
+from ..version import __version__
 
 __all__ = ["Parser", "mission_arg", "grid_args", "frequency", "grid", "quantity", "number", "check_outputs",
            "save_table", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]

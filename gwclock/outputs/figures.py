@@ -16,7 +16,6 @@ from pathlib import Path
 
 import numpy as np
 
-from .. import __version__
 from ..astro.references import get_reference
 from ..astro.sources import MARKS, Inspiral
 from ..config.figure_spec import FONTS, SIZES, FigureSpec
@@ -24,6 +23,7 @@ from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
 from ..studies.background import hubble_constant
+from ..version import __version__
 from .plotting import MISSION_STYLES, NOISE_STYLE, REFERENCE_STYLES, SOURCE_STYLES, save_figure
 
 __all__ = ["render_spec", "save_spec_figure", "YLABELS"]

@@ -15,7 +15,6 @@ from pathlib import Path
 
 import numpy as np
 
-from .. import __version__
 from ..astro.references import get_reference
 from ..astro.sources import Inspiral, Monochromatic
 from ..constants import MPC
@@ -24,6 +23,7 @@ from ..errors import InputError
 from ..files import atomic_path
 from ..studies.horizon import horizon
 from ..studies.snr import TunedCurve, clock_snr, reference_snr
+from ..version import __version__
 from .plotting import REFERENCE_STYLES, draw_scan, plot_budget
 from .summary import describe_mission
 from .tables import provenance

@@ -8,9 +8,9 @@ from pathlib import Path
 from astropy.table import Column as _Column
 from astropy.table import Table
 
-from .. import __version__
 from ..files import TABLE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
+from ..version import __version__
 from .ecsv import supported, write_ecsv
 
 __all__ = ["budget_table", "provenance", "write_table", "Column", "ENVELOPE_NOTE", "CONVENTION"]

@@ -19,7 +19,6 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from scipy import integrate
 
 from . import filters
 
@@ -316,6 +315,8 @@ class _UnitSequence:
     """Numerical moments of a custom timing for T = 1 and ideal pulses."""
 
     def __init__(self, fractions):
+        from scipy import integrate  # only custom timings need it; it is slow to import
+
         self.fractions = np.asarray(fractions, dtype=float)
         n = self.fractions.size
         self.n = n

@@ -11,6 +11,7 @@ from __future__ import annotations
 import itertools
 import sys
 import time
+from concurrent.futures import ProcessPoolExecutor
 
 import numpy as np
 from astropy.table import Table
@@ -53,7 +54,7 @@ def chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed):
         values = {col: np.full(len(sub), np.nan) for m in metrics for col in m.columns}
         lows = {col: np.full(len(sub), np.nan) for col in values}
         highs = {col: np.full(len(sub), np.nan) for col in values}
-        for j, (c, m, r) in enumerate(sub):
+        for j, (c, m, _) in enumerate(sub):
             if m is None:
                 continue
             stats, _ = perturbed_metrics(m, metrics, perturb, samples, seed + _index(axes, c))
@@ -122,7 +123,6 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
                     if nxt is not None:
                         window.append(client.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed, pure=False))
         elif workers > 1:
-            from concurrent.futures import ProcessPoolExecutor
             with ProcessPoolExecutor(workers) as pool:
                 futures = [pool.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed) for ch in chunks]
                 for fut in futures:

@@ -8,7 +8,6 @@ where it equals the threshold is found by bracketed root finding (scipy.optimize
 from __future__ import annotations
 
 import numpy as np
-from scipy.optimize import brentq
 
 from ..astro.sources import Inspiral, distance_at_redshift
 
@@ -34,6 +33,7 @@ def horizon(snr_of_source, total_mass, threshold=8.0):
         (z, D_L in m); (0, 0) when the source is below threshold even at z = 1e-7, and
         (inf, inf) when it is above threshold at z = 1000.
     """
+    from scipy.optimize import brentq  # slow to import; only horizons need it
     def excess(logz):
         z = float(np.exp(logz))
         src = Inspiral.from_masses(total_mass / 2, total_mass / 2, redshift=z)

@@ -14,7 +14,6 @@ from dataclasses import dataclass
 import astropy.units as u
 import numpy as np
 from pydantic import ValidationError
-from scipy.optimize import brentq
 
 from ..astro.sources import load_sources
 from ..config.mission import validation_error
@@ -203,7 +202,7 @@ def _per_curve(designs, curve, m):
 def _power_needed(designs, f0):
     """Transmit power at which shot noise equals projection noise at f0 (sequence re-optimised),
     by bracketed root finding on log P; NaN when no power in 1e-9..1e6 W achieves it."""
-
+    from scipy.optimize import brentq  # slow to import; only this metric needs it
     out = np.full(len(designs), np.nan)
     for i, d in enumerate(designs):
         def gap(logp, d=d):
@@ -267,6 +266,7 @@ def require(mission, metric: Metric, op: str, target: float, field: str, bounds)
 
     Returns (value, unit, message).
     """
+    from scipy.optimize import brentq  # slow to import; only requirements need it
     unit = field_unit(mission, field)
     lo, hi = bounds
 
