@@ -69,3 +69,58 @@ def test_function_level_imports_are_only_the_heavy_optional_libraries():
                     if not any(m == ok or m.startswith(ok + ".") for ok in LAZY_OK):
                         found.append(f"{name}:{node.lineno} imports {m}")
     assert found == []
+
+
+class TestNoiseRegistry:
+    """A noise is one registry entry: the budget, the tables and the figures pick it up."""
+
+    @pytest.fixture
+    def twin(self, monkeypatch):
+        # a second copy of the laser residual under another name: it must come out equal to the
+        # laser column wherever the sequence is fixed (the same PowerLaw terms through the same filter)
+        from gwclock.physics import noises
+        laser = noises.NOISES["laser"]
+        monkeypatch.setitem(noises.NOISES, "twin", noises.Noise("twin", "laser twin", "a copy of the laser residual",
+                                                                "#000000", (0, (1, 3)), "test", laser.terms))
+        return "twin"
+
+    def test_the_budget_carries_a_new_noise(self, twin):
+        import numpy as np
+
+        from gwclock.config.mission import load_mission
+        from gwclock.engine import window
+        f = np.geomspace(1e-3, 1.0, 40)
+        b = window(load_mission(None)[0].design(), f, tune=0.05)
+        np.testing.assert_allclose(b.psd[twin], b.psd["laser"], rtol=1e-12, atol=0)
+        np.testing.assert_allclose(b.total, sum(b.psd[k] for k in ("projection", "shot", "laser", "acceleration", twin)),
+                                   rtol=1e-12, atol=0)
+
+    def test_tables_and_figures_show_a_new_noise(self, twin):
+        import numpy as np
+
+        from gwclock.config.mission import load_mission
+        from gwclock.engine import envelope
+        from gwclock.outputs.plotting import plot_budget
+        from gwclock.outputs.tables import budget_table
+        b = envelope(load_mission(None)[0].design(), np.geomspace(1e-3, 1.0, 20))
+        t = budget_table(b, "m", "0")
+        assert "asd_twin" in t.colnames and t["asd_twin"].info.description == "a copy of the laser residual"
+        assert plot_budget(b)[twin].get_label() == "laser twin"
+
+
+class TestSequenceRegistry:
+    def test_every_kind_implements_the_protocol(self):
+        from gwclock.physics.sequences import SEQUENCES, SequenceKind
+        for name, kind in SEQUENCES.items():
+            assert isinstance(kind, SequenceKind), name
+            assert kind.name == name
+            assert kind.search in ("pulses", "single", "interrogation")
+            # only kinds whose noise integrals are linear in T can offer the (slope, edge) shortcut
+            assert hasattr(kind, "noise_coefficients") == kind.linear_in_interrogation
+
+    def test_the_mission_schema_offers_exactly_the_registered_kinds(self):
+        from typing import get_args
+
+        from gwclock.config.mission import Sequence
+        from gwclock.physics.sequences import SEQUENCES
+        assert get_args(Sequence.model_fields["kind"].annotation) == tuple(SEQUENCES)

@@ -9,7 +9,7 @@ import pytest
 
 import gwclock
 from gwclock.astro.references import REFERENCES
-from gwclock.physics.noises import STATIONARY_NOISES, psd
+from gwclock.physics.noises import psd, stationary_noises
 from gwclock.physics.sequences import SEQUENCES
 from gwclock.physics.species import SPECIES, get_species
 
@@ -20,9 +20,9 @@ DESIGN = quiet_design(acceleration_noise=3e-15, linewidth=0.1, flicker_floor=4e-
                       coherence_time=100.0, dead_time=1.0, acceleration_corner=4e-4)
 
 
-@pytest.mark.parametrize("name", sorted(STATIONARY_NOISES))
+@pytest.mark.parametrize("name", sorted(stationary_noises()))
 def test_noise_terms(name):
-    terms = STATIONARY_NOISES[name](DESIGN)
+    terms = stationary_noises()[name](DESIGN)
     f = np.geomspace(1e-7, 1e4, 50)
     y = psd(terms, f)
     assert y.shape == f.shape and np.all(np.isfinite(y)) and np.all(y >= 0) and np.any(y > 0)

@@ -21,16 +21,13 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationEr
 from ..errors import InputError
 from ..files import read_toml
 from ..physics.design import Design
+from ..physics.sequences import KINDS
 from ..physics.species import SPECIES
 from ..quantities import parse_quantity
 
-__all__ = ["Mission", "Design", "load_mission", "mission_from_dict", "DEFAULT_MISSION", "SCHEMA_UNITS"]
+__all__ = ["Mission", "load_mission", "mission_from_dict", "validation_error", "DEFAULT_MISSION"]
 
 DEFAULT_MISSION = "default"
-
-#: Unit in which each quantity field is stored and reported.
-SCHEMA_UNITS: dict[str, str] = {}
-
 
 def _quantity(unit: str, lo: float | None = None, hi: float | None = None, *, lo_open: bool = False,
               field: str | None = None):
@@ -118,7 +115,7 @@ class Spacecraft(_Section):
 class Sequence(_Section):
     """[sequence]: the atomic pulse sequence and the read-out."""
 
-    kind: Literal["ramsey", "echo", "cpmg", "xy8", "custom"] = Field("cpmg", description="sequence family")
+    kind: Literal[KINDS] = Field("cpmg", description="sequence family")
     max_interrogation: _quantity("s", 1e-3, 1e6) | None = Field(None, description="longest interrogation allowed (default: 3 coherence times)")
     tune: Literal["auto"] | _quantity("Hz", 0, 1e6, lo_open=True) = Field("auto", description="fixed tuning frequency, or auto")
     comparison: Literal["linear", "correlated", "auto"] = Field("auto", description="two-clock read-out")

@@ -24,7 +24,7 @@ def linear_noise(design, kind, f0):
     (slope, edge) of ``sum_terms integral S |G|^2 df = slope * T + edge`` at each f0, and the same
     for the shared laser's common mode (key ``"common"``), computed once per tuning."""
     out = {}
-    groups = dict(noises.STATIONARY_NOISES, common=noises.laser_terms)
+    groups = dict(noises.stationary_noises(), common=noises.laser_terms)
     for name, terms_of in groups.items():
         slope, edge = 0.0, 0.0
         for term in terms_of(design):
@@ -61,7 +61,7 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
     var = projection.phase_variance(design.atom_number, log_c, design.squeezing, correlated)
     inv_G0sq = 1.0 / G0sq
     out = {"projection": projection_term(design, Tc, var, G0sq)}
-    for name, terms_of in noises.STATIONARY_NOISES.items():
+    for name, terms_of in noises.stationary_noises().items():
         if linear is not None:
             out[name] = kind.aliased(design, (), f0, n, T, Tc, linear=linear[name]) * inv_G0sq
             continue

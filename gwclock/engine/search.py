@@ -13,7 +13,7 @@ import numpy as np
 from ..physics import filters, noises, projection
 from ..physics.design import Design
 from ..physics.filters import finite_pulse_factor
-from ..physics.sequences import SEQUENCES, Periodic, Ramsey, closed_form_red, optimal_interrogation
+from ..physics.sequences import SEQUENCES, Ramsey, closed_form_red, optimal_interrogation
 from .evaluate import evaluate, linear_noise, pick, projection_term, total_psd
 from .optimum import continuous_optimum
 
@@ -35,8 +35,8 @@ def _periodic_wishes(design, kind, f0, linear):
     eps = -np.log1p(-kind.pulse_error(design))
     tau_e = 1 / (1 / design.coherence_time + 2 * f0 * eps)
     G0fac = (2 / np.pi) ** 2 * finite_pulse_factor(2 * f0 * design.pi_pulse_duration) ** 2
-    U = sum(linear[name][0] for name in noises.STATIONARY_NOISES)
-    V = sum(linear[name][1] for name in noises.STATIONARY_NOISES)
+    U = sum(linear[name][0] for name in noises.stationary_noises())
+    V = sum(linear[name][1] for name in noises.stationary_noises())
     a, b = 2 * U / G0fac, 2 * V / G0fac
     base = 4 / (design.atom_number * (2 * np.pi * design.nu0) ** 2 * G0fac)
     t_qpn = np.clip(optimal_interrogation(tau_e, design.dead_time), lo, hi)
@@ -69,7 +69,7 @@ def _ramsey_wishes(design, f0):
     tau = np.broadcast_to(design.coherence_time, np.shape(f0)).astype(float)
     a = 0.0
     b = 0.0
-    for terms_of in noises.STATIONARY_NOISES.values():
+    for terms_of in noises.stationary_noises().values():
         for term in terms_of(design):
             if term.alpha == 0:
                 a = a + term.level * np.where(np.asarray(term.low) > 0, 0.0, 1.0)
@@ -94,10 +94,10 @@ def _ramsey_wishes(design, f0):
 def best_of_kind(design, kind, f0):
     """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity."""
     f0 = np.asarray(f0, dtype=float)
-    linear = linear_noise(design, kind, f0) if isinstance(kind, Periodic) else None
-    if isinstance(kind, Periodic) and kind.fixed is None:
+    linear = linear_noise(design, kind, f0) if kind.linear_in_interrogation else None
+    if kind.search == "pulses":
         wish = _periodic_wishes(design, kind, f0, linear)
-    elif kind.dd:  # echo, custom: one sequence per tuning
+    elif kind.search == "single":  # echo, custom: one sequence per tuning
         wish = (1.0 / (2 * f0))[None]
     else:
         return _best_ramsey(design, kind, f0)
@@ -130,7 +130,7 @@ def _best_ramsey(design, kind, f0):
 def _open_red_noise(design):
     """Whether some nonzero red-noise term needs Ramsey's explicit harmonic sum (no closed form)."""
     return any(term.alpha < 0 and np.any(term.level) and not closed_form_red(term)
-               for terms_of in noises.STATIONARY_NOISES.values() for term in terms_of(design))
+               for terms_of in noises.stationary_noises().values() for term in terms_of(design))
 
 
 def _ramsey_projection_of(design, f0, T):
@@ -207,7 +207,7 @@ def best_sequence(design, f0):
     where Ramsey does better (at low frequency, and where pulse leakage of white phase noise
     outweighs the longer DD interrogation)."""
     kind = SEQUENCES[design.kind]
-    if isinstance(kind, Ramsey):
+    if not kind.dd:
         return best_of_kind(design, kind, f0)
     # a DD sequence exists at f0 exactly when the longest wished interrogation snaps to a valid one
     reach = kind.snap(design, f0, np.broadcast_to(design.max_interrogation, f0.shape))[2]

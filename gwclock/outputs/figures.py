@@ -24,7 +24,7 @@ from ..engine import envelope, window
 from ..errors import InputError
 from ..studies.background import hubble_constant
 from ..version import __version__
-from .plotting import MISSION_STYLES, NOISE_STYLE, REFERENCE_STYLES, SOURCE_STYLES, save_figure
+from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES, noise_styles, save_figure
 
 __all__ = ["render_spec", "save_spec_figure", "YLABELS"]
 
@@ -89,7 +89,7 @@ def _render(spec, base_dir, ax):
             label = item.label or f"{mission.name} (tuned to {item.tune:.3g} Hz)"
         ln = line(f, _transform(spec.form, f, b.total, h0), label)
         if item.noises:
-            for name, nst in NOISE_STYLE.items():
+            for name, nst in noise_styles().items():
                 y = _transform(spec.form, f, b.psd[name], h0)
                 (c,) = ax.plot(f, np.where(y > 0, y, np.nan), color=nst["color"], linestyle=nst["linestyle"],
                                lw=0.9 * lw_scale, label=f"  {nst['label']}")

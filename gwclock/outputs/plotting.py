@@ -10,16 +10,13 @@ from pathlib import Path
 import numpy as np
 
 from ..files import FIGURE_FORMATS, atomic_path, check_output_path
+from ..physics.noises import NOISES
 
-__all__ = ["plot_budget", "plot_lines", "draw_scan", "draw_sweep", "save_figure", "NOISE_STYLE", "SERIES_STYLES"]
+__all__ = ["plot_budget", "plot_lines", "draw_scan", "draw_sweep", "save_figure", "noise_styles", "SERIES_STYLES"]
 
-# Colour-blind-safe hues (Okabe & Ito 2008) with distinct dash patterns for greyscale print.
-NOISE_STYLE = {
-    "projection": dict(color="#0072B2", linestyle=(0, (6, 2)), label="atom projection"),
-    "shot": dict(color="#D55E00", linestyle=(0, (2, 1.5)), label="photon shot (link)"),
-    "laser": dict(color="#009E73", linestyle=(0, (6, 2, 1, 2)), label="laser residual"),
-    "acceleration": dict(color="#CC79A7", linestyle=(0, (1, 1)), label="test-mass acceleration"),
-}
+def noise_styles() -> dict[str, dict]:
+    """Line style of each noise of the registry (colour-blind-safe hues, distinct dashes)."""
+    return {k: dict(color=n.colour, linestyle=n.dashes, label=n.label) for k, n in NOISES.items()}
 
 
 def _new_axes(ax, size=(6.4, 4.2)):
@@ -53,7 +50,7 @@ def plot_budget(budget, ax=None, title=None, components=True):
     artists = {}
     floor = np.max(budget.asd) * 1e-12
     if components:
-        for name, style in NOISE_STYLE.items():
+        for name, style in noise_styles().items():
             y = budget.asd_of(name)
             y = np.where(y > floor, y, np.nan)
             (artists[name],) = ax.plot(f, y, lw=1.3, **style)

@@ -53,8 +53,8 @@ def budget_table(budget, mission_name: str, digest: str):
         "contrast": "fringe contrast after decoherence and pulse errors",
         "correlated": "correlated (randomised common phase) read-out in use",
     }
-    for name in NOISES:
-        descriptions[f"asd_{name}"] = f"{name} noise, equivalent strain ASD"
+    for name, noise in NOISES.items():
+        descriptions[f"asd_{name}"] = noise.description
     for key, text in descriptions.items():
         t[key].info.description = text
     t.meta.update(provenance(mission_name, digest))

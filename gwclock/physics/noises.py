@@ -2,9 +2,9 @@
 
 Every stationary noise is written as ``S_y(f) = sum_i h_i f^alpha_i`` (one-sided, 1/Hz) with an
 upper cutoff per term, so that its passage through any pulse sequence's filter function has a
-closed form (:mod:`gwclock.filters`). A new noise is one function here and one entry in
+closed form (:mod:`gwclock.physics.filters`). A new noise is one function here and one entry in
 :data:`NOISES`. The per-cycle projection noise is not stationary; it is handled in
-:mod:`gwclock.projection`.
+:mod:`gwclock.physics.projection`.
 
 References
 ----------
@@ -17,13 +17,15 @@ Drag-free acceleration noise: Armano et al. 2016, Phys. Rev. Lett. 116, 231101.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..constants import c, h
 
-__all__ = ["PowerLaw", "psd", "received_power", "NOISES", "STATIONARY_NOISES"]
+__all__ = ["PowerLaw", "Noise", "psd", "received_power", "shot_terms", "laser_terms", "laser_residual_terms",
+           "acceleration_terms", "pulse_bandwidth", "NOISES", "stationary_noises"]
 
 
 @dataclass(frozen=True)
@@ -126,12 +128,57 @@ def acceleration_terms(design):
     return [PowerLaw(level, -2), PowerLaw(level * design.acceleration_corner**2, -4)]
 
 
-#: Stationary noises: name -> function(design) -> list of PowerLaw (fractional frequency).
-STATIONARY_NOISES = {
-    "shot": shot_terms,
-    "laser": laser_residual_terms,
-    "acceleration": acceleration_terms,
-}
+@dataclass(frozen=True)
+class Noise:
+    """One noise of the budget, with everything the rest of gwclock needs to know about it.
 
-#: Every noise of the budget, in table-column order.
-NOISES = ("projection", "shot", "laser", "acceleration")
+    Attributes
+    ----------
+    key : str
+        Name in budgets and table columns (``asd_<key>``).
+    label : str
+        Legend text.
+    description : str
+        Table column description.
+    colour : str
+        Line colour (Okabe & Ito 2008 colour-blind-safe hues).
+    dashes : tuple
+        Matplotlib dash pattern ``(offset, (on, off, ...))``, distinct in greyscale print.
+    citation : str
+        Where the model comes from.
+    terms : callable or None
+        ``terms(design) -> list of PowerLaw`` (fractional frequency) for a stationary noise; None
+        for the per-cycle projection noise, which the engine computes itself.
+    """
+
+    key: str
+    label: str
+    description: str
+    colour: str
+    dashes: tuple
+    citation: str
+    terms: Callable | None = None
+
+    @property
+    def stationary(self) -> bool:
+        return self.terms is not None
+
+
+#: Every noise of the budget, in table-column order. A new noise is a function returning its
+#: PowerLaw terms and one entry here (plus its test).
+NOISES: dict[str, Noise] = {n.key: n for n in (
+    Noise("projection", "atom projection", "atom projection noise, equivalent strain ASD", "#0072B2", (0, (6, 2)),
+          "Itano et al. 1993, Phys. Rev. A 47, 3554"),
+    Noise("shot", "photon shot (link)", "photon shot noise of the link, equivalent strain ASD", "#D55E00", (0, (2, 1.5)),
+          "heterodyne shot noise h nu / P_r (standard optics)", shot_terms),
+    Noise("laser", "laser residual", "laser noise left after the common-mode cancellation, equivalent strain ASD",
+          "#009E73", (0, (6, 2, 1, 2)), "Barnes et al. 1971, IEEE Trans. Instrum. Meas. 20, 105", laser_residual_terms),
+    Noise("acceleration", "test-mass acceleration", "drag-free test-mass acceleration noise, equivalent strain ASD",
+          "#CC79A7", (0, (1, 1)), "Armano et al. 2016, Phys. Rev. Lett. 116, 231101", acceleration_terms),
+)}
+
+
+
+def stationary_noises() -> dict[str, Callable]:
+    """The stationary noises of :data:`NOISES` (name -> terms function), read afresh each call."""
+    return {k: n.terms for k, n in NOISES.items() if n.stationary}
