@@ -380,3 +380,14 @@ class TestReadout:
         assert got == pytest.approx(-T / tau + n * np.log(1 - eps**2), rel=1e-12, abs=0)
         cpmg = evaluate(d, CPMG, n / (2 * T), n, T)["log_contrast"]
         assert cpmg == pytest.approx(-T / tau + n * np.log(1 - eps), rel=1e-12, abs=0)
+
+
+def test_band_below_finds_the_extent_of_a_v_shaped_curve():
+    # analytic: asd = 1 + |log10 f| is at or below 1 + k exactly on [10^-k, 10^k]; rows are independent
+    from gwclock.engine.budget import band_below
+    f = np.logspace(-3, 3, 61)
+    asd = 1 + np.abs(np.log10(f))
+    lo, hi = band_below(f, np.stack([asd, asd, 10 + asd]), np.array([2.0 + 1e-9, 3.0 + 1e-9, 2.0]))
+    np.testing.assert_allclose(lo[:2], [0.1, 0.01], rtol=1e-12, atol=0)
+    np.testing.assert_allclose(hi[:2], [10.0, 100.0], rtol=1e-12, atol=0)
+    assert np.isnan(lo[2]) and np.isnan(hi[2])

@@ -11,7 +11,7 @@ cited parameter of each curve.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -106,6 +106,10 @@ class Reference:
     checked : bool
         Whether the coefficients were checked against the paper's text (``gwclock references``
         says so when not).
+    options : tuple of str
+        Keyword options ``psd`` accepts (``confusion_years`` for LISA's galactic foreground).
+    compared : bool
+        Whether the curve is in the default comparison set of figures, horizons and reports.
     """
 
     key: str
@@ -117,7 +121,14 @@ class Reference:
     source: str
     note: str = ""
     checked: bool = True
-    options: dict = field(default_factory=dict)
+    options: tuple = ()
+    compared: bool = True
+
+    def options_for(self, confusion_years=None) -> dict:
+        """The keyword options to pass for a requested galactic confusion (only where accepted)."""
+        if confusion_years and "confusion_years" in self.options:
+            return {"confusion_years": confusion_years}
+        return {}
 
     def native(self, f, **options):
         """PSD in its published convention (1/Hz)."""
@@ -132,7 +143,8 @@ REFERENCES = {
     "lisa": Reference(
         "lisa", "LISA", lisa_psd, SKY, 1.0, (1e-5, 1.0),
         "Robson, Cornish & Liu 2019, Class. Quantum Grav. 36, 105011, eqs. 10-14 and Table 1 (L = 2.5 Gm, f* = 19.09 mHz)",
-        "galactic confusion for 0.5, 1, 2 or 4 yr on request (--confusion)", checked=False),
+        "galactic confusion for 0.5, 1, 2 or 4 yr on request (--confusion)", checked=False,
+        options=("confusion_years",)),
     "aligo": Reference(
         "aligo", "Advanced LIGO (design fit)", aligo_psd, OPTIMAL, 5 / 2, (10.0, 1e4),
         "Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2 (analytic fit of the design curve)",
@@ -146,6 +158,9 @@ REFERENCES = {
         "Yagi & Seto 2011, Phys. Rev. D 83, 044011, eq. 5 (erratum PRD 95, 109901)",
         "taken as non-sky-averaged for 60-degree arms: x 10/3 (an assumption, see the paper)", checked=False),
 }
+
+#: The default comparison set (figures, horizons, backgrounds, reports), in registry order.
+DEFAULT_COMPARISON = tuple(k for k, r in REFERENCES.items() if r.compared)
 
 #: Curves with no accepted analytic form: load their published table as a user curve.
 TABULATED_ONLY = {

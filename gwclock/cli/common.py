@@ -11,7 +11,7 @@ import argparse
 
 import numpy as np
 
-from ..engine import frequency_grid
+from ..engine.budget import SPAN, frequency_grid
 from ..errors import InputError
 from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
 from ..outputs.plotting import save_figure
@@ -22,7 +22,7 @@ from ..version import __version__
 __all__ = ["Parser", "mission_arg", "grid_args", "frequency", "grid", "quantity", "number", "check_outputs",
            "save_table", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]
 
-DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = "1e-5 Hz", "100 Hz", 400
+DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = f"{SPAN[0]:g} Hz", f"{SPAN[1]:g} Hz", 400
 
 
 class Parser(argparse.ArgumentParser):

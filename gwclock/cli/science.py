@@ -7,7 +7,7 @@ from pathlib import Path
 import numpy as np
 from astropy.table import Table
 
-from ..astro.references import CONFUSION_PARAMETERS, REFERENCES, TABULATED_ONLY, user_curve
+from ..astro.references import CONFUSION_PARAMETERS, DEFAULT_COMPARISON, REFERENCES, TABULATED_ONLY, user_curve
 from ..astro.sources import MARKS, Inspiral, Monochromatic, load_sources
 from ..config.mission import load_mission
 from ..constants import MPC, MSUN, YEAR
@@ -23,7 +23,6 @@ from .common import check_outputs, grid, grid_args, mission_arg, number, quantit
 
 __all__ = ["add_commands"]
 
-DEFAULT_AGAINST = ["lisa", "decigo", "et", "aligo"]
 DEFAULT_MASSES = [10, 30, 100, 300, 1e3, 3e3, 1e4, 3e4, 1e5, 3e5, 1e6]
 
 
@@ -31,7 +30,8 @@ def _references(names, confusion=None):
     out = []
     for name in names:
         if name.lower() in REFERENCES:
-            out.append((REFERENCES[name.lower()], {"confusion_years": confusion} if name.lower() == "lisa" and confusion else {}))
+            ref = REFERENCES[name.lower()]
+            out.append((ref, ref.options_for(confusion)))
         elif Path(name).suffix.lower() in (".csv", ".ecsv"):
             out.append((user_curve(name), {}))
         else:
@@ -190,7 +190,7 @@ def cmd_horizon(args):
     mission, digest, curve = _clock(args)
     masses = [quantity(m, "solMass", "--masses") for m in (args.masses or DEFAULT_MASSES)]
     thr = number(args.snr, "--snr", lo=1e-6)
-    refs = _references(args.against if args.against is not None else DEFAULT_AGAINST, _confusion(args))
+    refs = _references(args.against if args.against is not None else DEFAULT_COMPARISON, _confusion(args))
     T = mission.design().duration
     check_outputs(args)
     detectors = [(mission.name, lambda s: clock_snr(curve, s, args.schedule, T).snr)]
@@ -223,7 +223,7 @@ def cmd_background(args):
     mission, digest = load_mission(args.mission)
     design = mission.design()
     f = grid(args)
-    refs = _references(args.against if args.against is not None else DEFAULT_AGAINST, _confusion(args))
+    refs = _references(args.against if args.against is not None else DEFAULT_COMPARISON, _confusion(args))
     T = design.duration
     thr = number(args.snr, "--snr", lo=1e-6)
     lo, hi, steps = _scan(args.scan)
@@ -348,7 +348,7 @@ def add_commands(sub):
     sp.add_argument("--snr", default="8")
     sp.add_argument("--masses", nargs="+", help="source-frame total masses (solar masses)")
     schedule_arg(sp)
-    against_args(sp, f"references (default: {' '.join(DEFAULT_AGAINST)})")
+    against_args(sp, f"references (default: {' '.join(DEFAULT_COMPARISON)})")
     sp.add_argument("--table")
     sp.add_argument("--plot")
     sp.set_defaults(func=cmd_horizon)
@@ -358,7 +358,7 @@ def add_commands(sub):
     grid_args(sp)
     sp.add_argument("--scan", default="5 mHz:5 Hz:12", help="clock scan F1:F2:COUNT (time shared evenly)")
     sp.add_argument("--snr", default="1")
-    against_args(sp, f"references (default: {' '.join(DEFAULT_AGAINST)})")
+    against_args(sp, f"references (default: {' '.join(DEFAULT_COMPARISON)})")
     sp.set_defaults(func=cmd_background)
 
 

@@ -9,7 +9,10 @@ import numpy as np
 
 from ..physics.design import Design
 
-__all__ = ["Budget", "frequency_grid", "check_grid"]
+__all__ = ["Budget", "frequency_grid", "check_grid", "band_below", "SPAN"]
+
+#: The frequency span (Hz) gwclock covers by default: every default grid spans it.
+SPAN = (1e-5, 100.0)
 
 
 @dataclass(frozen=True)
@@ -60,10 +63,30 @@ class Budget:
         """Strain ASD of one noise in Hz^-1/2."""
         return np.sqrt(self.psd[noise])
 
+    def band_below(self, level):
+        """First and last frequency (Hz) where the total ASD is at or below ``level`` (NaN if nowhere)."""
+        lo, hi = band_below(self.frequency, self.asd, level)
+        return float(lo), float(hi)
+
     @property
     def characteristic_noise(self):
         """Noise characteristic strain h_n = sqrt(f S_n) (dimensionless)."""
         return np.sqrt(self.frequency * self.total)
+
+
+def band_below(f, asd, level):
+    """First and last frequency (Hz) where ``asd <= level``; NaN where the curve never gets there.
+
+    ``asd`` may be 2-D (one curve per row, on the grid ``f``); ``level`` broadcasts against the
+    rows. The band may have gaps inside it: this is its extent.
+    """
+    f = np.asarray(f, dtype=float)
+    asd = np.asarray(asd, dtype=float)
+    below = asd <= np.asarray(level, dtype=float)[..., None] if np.ndim(level) else asd <= level
+    hit = below.any(axis=-1)
+    first = np.argmax(below, axis=-1)
+    last = f.size - 1 - np.argmax(below[..., ::-1], axis=-1)
+    return np.where(hit, f[first], np.nan), np.where(hit, f[last], np.nan)
 
 
 def frequency_grid(fmin, fmax, points):

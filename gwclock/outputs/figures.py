@@ -22,7 +22,7 @@ from ..config.figure_spec import FONTS, SIZES, FigureSpec
 from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
-from ..studies.background import hubble_constant
+from ..studies.background import hubble_constant, omega_noise
 from ..version import __version__
 from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES, noise_styles, save_figure
 
@@ -34,7 +34,7 @@ def _transform(form, f, s_n, h0):
         return np.sqrt(s_n)
     if form == "hc":
         return np.sqrt(f * s_n)
-    return 4 * np.pi**2 * f**3 * s_n / (3 * h0**2)
+    return omega_noise(f, s_n, h0)
 
 
 YLABELS = {"asd": r"strain ASD [Hz$^{-1/2}$]", "hc": "characteristic strain", "omega": r"$\Omega_{\rm gw}$ sensitivity"}
@@ -97,9 +97,8 @@ def _render(spec, base_dir, ax):
         if item.mode == "window":
             artists["annotations"].append(ax.axvline(item.tune, color=ln.get_color(), lw=0.6, linestyle=":"))
         if item.band and spec.form == "asd":
-            below = np.sqrt(b.total) <= item.band
-            if below.any():
-                lo, hi = f[below][0], f[below][-1]
+            lo, hi = b.band_below(item.band)
+            if np.isfinite(lo):
                 for x in (lo, hi):
                     artists["annotations"].append(ax.axvline(x, color=ln.get_color(), lw=0.6, linestyle="--"))
                 artists["annotations"].append(ax.annotate(
@@ -110,7 +109,7 @@ def _render(spec, base_dir, ax):
             ref = get_reference(item.name)
         except KeyError as exc:
             raise InputError(str(exc.args[0]), source="figure spec", field="reference.name", value=item.name) from None
-        opts = {"confusion_years": item.confusion} if item.confusion and ref.key == "lisa" else {}
+        opts = ref.options_for(item.confusion)
         fr = f[(f >= ref.band[0]) & (f <= ref.band[1])]
         if fr.size < 2:
             continue

@@ -15,10 +15,11 @@ from pathlib import Path
 
 import numpy as np
 
-from ..astro.references import get_reference
+from ..astro.references import DEFAULT_COMPARISON, get_reference
 from ..astro.sources import Inspiral, Monochromatic
 from ..constants import MPC
 from ..engine import envelope, window_psd
+from ..engine.budget import SPAN, band_below
 from ..errors import InputError
 from ..files import atomic_path
 from ..studies.horizon import horizon
@@ -38,7 +39,6 @@ STANDARD_SOURCES = [
     ("stellar binary 30+30 Msun at 400 Mpc", dict(m1=30, m2=30, distance_mpc=400)),
     ("galactic binary at 3 mHz, h0 = 1e-22", dict(frequency=3e-3, h0=1e-22)),
 ]
-REFERENCE_SET = ("lisa", "decigo", "et", "aligo")
 
 
 def _png(fig):
@@ -75,7 +75,7 @@ def build_report(mission, digest, out_dir):
     if not out.parent.is_dir():
         raise InputError("the parent folder does not exist", source="command line", field="--out", value=str(out))
     design = mission.design()
-    f = np.geomspace(1e-5, 100, 600)
+    f = np.geomspace(*SPAN, 600)
     budget = envelope(design, f)
     asd = budget.asd
     i = int(np.argmin(asd))
@@ -88,7 +88,7 @@ def build_report(mission, digest, out_dir):
     fig = Figure(figsize=(6.4, 4.2), layout="constrained")
     ax = fig.add_subplot()
     ax.plot(f, asd, color="black", lw=2.2, label=f"{mission.name} (tuned envelope)")
-    for k, style in zip(REFERENCE_SET, REFERENCE_STYLES):
+    for k, style in zip(DEFAULT_COMPARISON, REFERENCE_STYLES):
         ref = get_reference(k)
         fr = f[(f >= ref.band[0]) & (f <= ref.band[1])]
         ax.plot(fr, np.sqrt(ref.sky_averaged(fr)), label=f"{ref.label} (sky-averaged)", **style)
@@ -115,13 +115,12 @@ def build_report(mission, digest, out_dir):
     levels = sorted({float(f"{asd[i] * 2:.2g}"), float(f"{asd[i] * 10:.2g}")})
     bands = []
     for level in levels:
-        below = asd <= level
-        bands.append((level, f[below][0], f[below][-1]) if below.any() else (level, np.nan, np.nan))
+        bands.append((level, *band_below(f, asd, level)))
     curve = TunedCurve(design)
     snrs = []
     for src in _sources():
         row = [src.name, clock_snr(curve, src, "track").snr]
-        for k in REFERENCE_SET:
+        for k in DEFAULT_COMPARISON:
             row.append(reference_snr(get_reference(k), src, design.duration).snr)
         snrs.append(row)
     horizons = []
@@ -135,7 +134,7 @@ def build_report(mission, digest, out_dir):
         return "-" if not np.isfinite(x) else (f"{x:{spec}}" if x != np.inf else "beyond z = 1000")
 
     params = describe_mission(mission, digest)
-    ref_labels = [get_reference(k).label for k in REFERENCE_SET]
+    ref_labels = [get_reference(k).label for k in DEFAULT_COMPARISON]
     md = [f"# {mission.name}: clock-link sensitivity report", "",
           f"*Concept-study estimate* produced by gwclock {__version__} on {meta['created']} from a mission file with "
           f"SHA-256 `{digest}`. The sensitivity is sky-averaged (normalisation of Robson, Cornish & Liu 2019) and "

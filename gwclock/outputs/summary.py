@@ -38,11 +38,8 @@ def summarise_budget(budget, name):
     i = int(np.argmin(asd))
     lines = [f"{name}: {budget.mode}, {f.size} frequencies from {f[0]:.3g} Hz to {f[-1]:.3g} Hz"]
     lines.append(f"  best strain ASD {asd[i]:.3e} Hz^-1/2 at {f[i]:.4g} Hz")
-    for factor in (10.0,):
-        below = asd <= factor * asd[i]
-        if below.any():
-            lo, hi = f[below][0], f[below][-1]
-            lines.append(f"  within x{factor:g} of the best from {lo:.3g} Hz to {hi:.3g} Hz")
+    lo, hi = budget.band_below(10.0 * asd[i])
+    lines.append(f"  within x10 of the best from {lo:.3g} Hz to {hi:.3g} Hz")
     dominant = max(budget.psd, key=lambda k: budget.psd[k][i])
     lines.append(f"  dominant noise at the best point: {dominant}")
     if budget.mode == "envelope":

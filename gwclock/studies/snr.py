@@ -30,6 +30,7 @@ import numpy as np
 
 from .. import engine
 from ..astro.sources import Inspiral, Monochromatic
+from ..engine.budget import SPAN
 
 __all__ = ["SNRResult", "broadband_snr", "time_domain_snr", "reference_snr", "clock_snr", "TunedCurve", "SCHEDULES"]
 
@@ -108,14 +109,26 @@ def reference_snr(reference, source, observation, convention_options=None):
 class TunedCurve:
     """The clock mission's tuned envelope on a fine grid, interpolated log-log."""
 
-    def __init__(self, design, fmin=1e-5, fmax=100.0, points=1200):
-        self.design = design
-        self.band = (fmin, fmax)
+    def __init__(self, design, fmin=SPAN[0], fmax=SPAN[1], points=1200):
         b = engine.envelope(design, np.geomspace(fmin, fmax, points))
-        self.f = b.frequency
-        self.lf = np.log(b.frequency)
-        self.ls = np.log(b.total)
-        self.interrogation = b.interrogation
+        self._set(design, b.frequency, b.total, b.interrogation)
+
+    @classmethod
+    def from_envelope(cls, design, frequency, total, interrogation):
+        """A curve from an envelope already computed (strain PSD ``total`` and the interrogation
+        times on the increasing grid ``frequency``, Hz)."""
+        curve = cls.__new__(cls)
+        curve._set(design, np.asarray(frequency, dtype=float), np.asarray(total, dtype=float),
+                   np.asarray(interrogation, dtype=float))
+        return curve
+
+    def _set(self, design, f, total, interrogation):
+        self.design = design
+        self.band = (float(f[0]), float(f[-1]))
+        self.f = f
+        self.lf = np.log(f)
+        self.ls = np.log(total)
+        self.interrogation = interrogation
 
     def psd(self, f):
         return np.exp(np.interp(np.log(f), self.lf, self.ls))

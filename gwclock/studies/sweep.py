@@ -18,6 +18,7 @@ from pydantic import ValidationError
 from ..astro.sources import load_sources
 from ..config.mission import validation_error
 from ..engine.batch import batch_budget
+from ..engine.budget import SPAN, band_below
 from ..errors import InputError
 from ..quantities import parse_frequency, parse_quantity
 from .horizon import horizon
@@ -95,7 +96,6 @@ class Metric:
     arg: object
     columns: tuple
     units: tuple
-    better: str  # "low" or "high": which way is better
 
 
 def parse_metric(text) -> Metric:
@@ -104,20 +104,20 @@ def parse_metric(text) -> Metric:
     try:
         if t.startswith("asd@"):
             f = parse_frequency(t[4:])
-            return Metric(t, "asd", f, (f"asd@{f:g}Hz",), ("Hz(-1/2)",), "low")
+            return Metric(t, "asd", f, (f"asd@{f:g}Hz",), ("Hz(-1/2)",))
         if t.startswith("power_needed@"):
             f = parse_frequency(t[13:])
-            return Metric(t, "power", f, (f"power_needed@{f:g}Hz",), ("W",), "low")
+            return Metric(t, "power", f, (f"power_needed@{f:g}Hz",), ("W",))
         if t.startswith("band@"):
             level = float(t[5:])
             if not level > 0:
                 raise ValueError("level must be positive")
-            return Metric(t, "band", level, (f"band_low@{level:g}", f"band_high@{level:g}"), ("Hz", "Hz"), "high")
+            return Metric(t, "band", level, (f"band_low@{level:g}", f"band_high@{level:g}"), ("Hz", "Hz"))
         if t.startswith("horizon:"):
             mass = float(t[8:])
             if not mass > 0:
                 raise ValueError("mass must be positive")
-            return Metric(t, "horizon", mass, (f"horizon_z@{mass:g}Msun",), ("",), "high")
+            return Metric(t, "horizon", mass, (f"horizon_z@{mass:g}Msun",), ("",))
         if t.startswith("snr:"):
             rest = t[4:]
             schedule = "track"
@@ -126,7 +126,7 @@ def parse_metric(text) -> Metric:
                     rest, schedule = rest[: -len(s) - 1], s
             sources = load_sources(rest)
             cols = tuple(f"snr[{schedule}]:{src.name}" for src in sources)
-            return Metric(t, "snr", (sources, schedule), cols, ("",) * len(cols), "high")
+            return Metric(t, "snr", (sources, schedule), cols, ("",) * len(cols))
     except ValueError as exc:
         raise InputError(str(exc), source="command line", field="--metric", value=text) from None
     raise InputError("expected asd@FREQ, band@LEVEL, snr:SOURCE_FILE[:SCHEDULE], horizon:MASS or power_needed@FREQ",
@@ -150,7 +150,7 @@ def failure_reason(exc):
     return " ".join(str(exc).split())
 
 
-BAND_GRID = np.geomspace(1e-5, 100.0, 240)
+BAND_GRID = np.geomspace(*SPAN, 240)
 
 
 def evaluate_points(designs, metrics):
@@ -168,10 +168,7 @@ def evaluate_points(designs, metrics):
         if m.kind == "asd":
             out[m.columns[0]] = np.sqrt(batch_budget(designs, [m.arg])["total"][:, 0])
         elif m.kind == "band":
-            below = np.sqrt(curve["total"]) <= m.arg
-            lo = np.where(below.any(1), BAND_GRID[np.argmax(below, 1)], np.nan)
-            hi = np.where(below.any(1), BAND_GRID[BAND_GRID.size - 1 - np.argmax(below[:, ::-1], 1)], np.nan)
-            out[m.columns[0]], out[m.columns[1]] = lo, hi
+            out[m.columns[0]], out[m.columns[1]] = band_below(BAND_GRID, np.sqrt(curve["total"]), m.arg)
         elif m.kind == "power":
             out[m.columns[0]] = _power_needed(designs, m.arg)
         elif m.kind in ("snr", "horizon"):
@@ -184,10 +181,7 @@ def evaluate_points(designs, metrics):
 def _tuned_curves(designs, curve):
     curves = []
     for i, d in enumerate(designs):
-        c = TunedCurve.__new__(TunedCurve)
-        c.design, c.band, c.f = d, (BAND_GRID[0], BAND_GRID[-1]), BAND_GRID
-        c.lf, c.ls, c.interrogation = np.log(BAND_GRID), np.log(curve["total"][i]), curve["interrogation"][i]
-        curves.append(c)
+        curves.append(TunedCurve.from_envelope(d, BAND_GRID, curve["total"][i], curve["interrogation"][i]))
     return curves
 
 
