@@ -138,10 +138,15 @@ def test_fuzzed_valid_toml_mutations(tmp_path):
 def test_killed_run_leaves_the_old_output_intact(tmp_path, sig):
     out = tmp_path / "table.ecsv"
     out.write_text("previous results\n")
-    proc = subprocess.Popen([sys.executable, "-m", "gwclock", "sweep", "--vary", "clock.atom_number=1e3:1e7:4000:log",
+    proc = subprocess.Popen([sys.executable, "-m", "gwclock", "sweep", "--vary", "clock.atom_number=1e3:1e7:20000:log",
                              "--metric", "band@1e-17", "--table", str(out), "--quiet"],
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=tmp_path)
-    time.sleep(4.0)
+    # signal the run once its first chunk is in the temporary file: mid-write, whatever the machine's speed
+    deadline = time.monotonic() + 120
+    while time.monotonic() < deadline and proc.poll() is None:
+        if any(p.stat().st_size > 0 for p in tmp_path.glob(".table.ecsv.*")):
+            break
+        time.sleep(0.02)
     assert proc.poll() is None  # still writing
     proc.send_signal(sig)
     proc.wait(timeout=60)

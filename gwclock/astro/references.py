@@ -143,7 +143,7 @@ REFERENCES = {
     "lisa": Reference(
         "lisa", "LISA", lisa_psd, SKY, 1.0, (1e-5, 1.0),
         "Robson, Cornish & Liu 2019, Class. Quantum Grav. 36, 105011, eqs. 10-14 and Table 1 (L = 2.5 Gm, f* = 19.09 mHz)",
-        "galactic confusion for 0.5, 1, 2 or 4 yr on request (--confusion)", checked=False,
+        "galactic confusion for 0.5, 1, 2 or 4 yr on request", checked=False,
         options=("confusion_years",)),
     "aligo": Reference(
         "aligo", "Advanced LIGO (design fit)", aligo_psd, OPTIMAL, 5 / 2, (10.0, 1e4),
@@ -164,7 +164,7 @@ DEFAULT_COMPARISON = tuple(k for k, r in REFERENCES.items() if r.compared)
 
 #: Curves with no accepted analytic form: load their published table as a user curve.
 TABULATED_ONLY = {
-    "Cosmic Explorer": "Evans et al. 2021, arXiv:2109.09882 (published ASD table; pass the file to --against)",
+    "Cosmic Explorer": "Evans et al. 2021, arXiv:2109.09882 (published ASD table; load it as a user curve)",
 }
 
 
@@ -222,7 +222,7 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
         raise InputError("values must be positive and finite", source=str(p), field="asd/psd")
     conv = convention or t.meta.get("convention")
     if conv not in (SKY, OPTIMAL, "sky", "optimal"):
-        raise InputError("declare the convention: 'sky-averaged' or 'optimal orientation' (meta 'convention' or --convention)",
+        raise InputError("declare the convention: 'sky-averaged' or 'optimal orientation' (table meta 'convention', or the convention argument)",
                          source=str(p), field="convention", value=conv)
     conv = SKY if conv.startswith("sky") else OPTIMAL
     factor = 1.0 if conv == SKY else float(sky_factor or t.meta.get("sky_factor", 5 / 2))

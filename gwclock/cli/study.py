@@ -20,6 +20,8 @@ from .common import check_outputs, frequency, grid, grid_args, mission_arg, save
 
 __all__ = ["add_commands"]
 
+CLI = "command line"
+
 def _collect_and_write(args, mission, digest, axes, metric_texts, perturb):
     meta = provenance(mission.name, digest)
     meta.update(varied=", ".join(f"{a.field} ({'log' if a.log else 'linear'}, {len(a.texts)} values)" for a in axes),
@@ -49,11 +51,11 @@ def _collect_and_write(args, mission, digest, axes, metric_texts, perturb):
 
 def cmd_sweep(args):
     mission, digest = load_mission(args.mission)
-    axes = [parse_vary(v, mission) for v in args.vary]
+    axes = [parse_vary(v, mission, CLI, "--vary") for v in args.vary]
     if len({a.field for a in axes}) != len(axes):
         raise InputError("each field can be varied once", source="command line", field="--vary")
-    metrics = [parse_metric(m) for m in args.metric]
-    perturb = [parse_perturb(p, mission) for p in (args.perturb or [])]
+    metrics = [parse_metric(m, CLI, "--metric") for m in args.metric]
+    perturb = [parse_perturb(p, mission, CLI, "--perturb") for p in (args.perturb or [])]
     _workers(args)
     check_outputs(args)
     table = _collect_and_write(args, mission, digest, axes, [m.text for m in metrics], perturb)
@@ -113,12 +115,12 @@ def cmd_require(args):
     if not m:
         raise InputError("expected 'METRIC<=VALUE' or 'METRIC>=VALUE'", source="command line", field="--target",
                          value=args.target)
-    metric = parse_metric(m.group(1))
+    metric = parse_metric(m.group(1), CLI, "--target")
     if len(metric.columns) != 1:
         raise InputError("require takes a metric with one value (one source for snr)", source="command line",
                          field="--target")
     op, target = m.group(2), float(m.group(3))
-    unit = field_unit(mission, args.vary)
+    unit = field_unit(mission, args.vary, CLI)
     if args.bounds:
         try:
             lo, hi = (float(parse_quantity(p, unit).value) if unit else float(p) for p in args.bounds.split(":"))

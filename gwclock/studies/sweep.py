@@ -39,11 +39,12 @@ class Axis:
     log: bool
 
 
-def field_unit(mission, field):
+def field_unit(mission, field, source="study specification"):
+    """Unit of a numeric mission field as written in its values ("" for plain numbers)."""
     node = mission
     for part in field.split("."):
         if not hasattr(node, part):
-            raise InputError("no such mission field", source="command line", field=field)
+            raise InputError("no such mission field", source=source, field=field)
         node = getattr(node, part)
     if isinstance(node, u.Quantity):
         return node.unit.to_string()
@@ -52,36 +53,36 @@ def field_unit(mission, field):
     if node is None and field == "sequence.max_interrogation":
         return "s"
     if isinstance(node, bool) or not isinstance(node, (int, float)):
-        raise InputError("only numeric fields can be varied", source="command line", field=field)
+        raise InputError("only numeric fields can be varied", source=source, field=field)
     return ""
 
 
-def parse_vary(text, mission) -> Axis:
+def parse_vary(text, mission, source="study specification", option="vary") -> Axis:
     """``FIELD=START:STOP:COUNT[:log]`` with units on START and STOP for quantity fields."""
     m = re.fullmatch(r"\s*([\w.]+)\s*=\s*(.+)", text or "")
     if not m:
-        raise InputError("expected FIELD=START:STOP:COUNT[:log]", source="command line", field="--vary", value=text)
+        raise InputError("expected FIELD=START:STOP:COUNT[:log]", source=source, field=option, value=text)
     field, rest = m.group(1), m.group(2)
     parts = [p.strip() for p in rest.split(":")]
     if len(parts) not in (3, 4) or (len(parts) == 4 and parts[3] not in ("log", "lin")):
-        raise InputError("expected FIELD=START:STOP:COUNT[:log]", source="command line", field="--vary", value=text)
-    unit = field_unit(mission, field)
+        raise InputError("expected FIELD=START:STOP:COUNT[:log]", source=source, field=option, value=text)
+    unit = field_unit(mission, field, source)
     try:
         count = int(parts[2])
     except ValueError:
-        raise InputError("COUNT must be a whole number", source="command line", field="--vary", value=text) from None
+        raise InputError("COUNT must be a whole number", source=source, field=option, value=text) from None
     if not 1 <= count <= 1_000_000:
-        raise InputError("COUNT must be between 1 and 1e6", source="command line", field="--vary", value=text)
+        raise InputError("COUNT must be between 1 and 1e6", source=source, field=option, value=text)
     try:
         if unit:
             lo, hi = (float(parse_quantity(p, unit).value) for p in parts[:2])
         else:
             lo, hi = float(parts[0]), float(parts[1])
     except ValueError as exc:
-        raise InputError(str(exc), source="command line", field=f"--vary {field}", value=rest) from None
+        raise InputError(str(exc), source=source, field=f"{option} {field}", value=rest) from None
     log = len(parts) == 4 and parts[3] == "log"
     if log and (lo <= 0 or hi <= 0):
-        raise InputError("a log axis needs positive ends", source="command line", field=f"--vary {field}", value=rest)
+        raise InputError("a log axis needs positive ends", source=source, field=f"{option} {field}", value=rest)
     values = np.geomspace(lo, hi, count) if log else np.linspace(lo, hi, count)
     texts = tuple(f"{float(v)!r} {unit}" if unit else float(v) for v in values)
     return Axis(field, texts, values, unit, log)
@@ -98,7 +99,7 @@ class Metric:
     units: tuple
 
 
-def parse_metric(text) -> Metric:
+def parse_metric(text, source="study specification", option="metric") -> Metric:
     """``asd@FREQ``, ``band@LEVEL``, ``snr:FILE[:SCHEDULE]``, ``horizon:MASS``, ``power_needed@FREQ``."""
     t = (text or "").strip()
     try:
@@ -128,9 +129,9 @@ def parse_metric(text) -> Metric:
             cols = tuple(f"snr[{schedule}]:{src.name}" for src in sources)
             return Metric(t, "snr", (sources, schedule), cols, ("",) * len(cols))
     except ValueError as exc:
-        raise InputError(str(exc), source="command line", field="--metric", value=text) from None
+        raise InputError(str(exc), source=source, field=option, value=text) from None
     raise InputError("expected asd@FREQ, band@LEVEL, snr:SOURCE_FILE[:SCHEDULE], horizon:MASS or power_needed@FREQ",
-                     source="command line", field="--metric", value=text)
+                     source=source, field=option, value=text)
 
 
 def point(mission, axes, combo):
@@ -209,15 +210,15 @@ def _power_needed(designs, f0):
     return out
 
 
-def parse_perturb(text, mission):
+def parse_perturb(text, mission, source="study specification", option="perturb"):
     """``FIELD=REL_SIGMA``: relative 1-sigma (Gaussian, truncated to stay positive)."""
     m = re.fullmatch(r"\s*([\w.]+)\s*=\s*([0-9.eE+-]+)\s*", text or "")
     if not m:
-        raise InputError("expected FIELD=REL_SIGMA", source="command line", field="--perturb", value=text)
+        raise InputError("expected FIELD=REL_SIGMA", source=source, field=option, value=text)
     field, sigma = m.group(1), float(m.group(2))
-    field_unit(mission, field)
+    field_unit(mission, field, source)
     if not 0 < sigma < 1:
-        raise InputError("REL_SIGMA must lie in (0, 1)", source="command line", field="--perturb", value=text)
+        raise InputError("REL_SIGMA must lie in (0, 1)", source=source, field=option, value=text)
     return field, sigma
 
 
