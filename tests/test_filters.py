@@ -12,6 +12,7 @@ import numpy as np
 import pytest
 from scipy import integrate
 
+from gwclock.config.mission import load_mission
 from gwclock.physics import filters
 from gwclock.physics.filters import (
     filter_function,
@@ -227,3 +228,23 @@ def test_ramsey_red_alias_against_a_long_sum(power, case):
     brute = (np.sum((T * np.sinc(fm * T)) ** 2 / np.maximum(np.abs(fm), floor) ** power)
              + Tc ** (power + 2) / ((power + 1) * np.pi**2 * M ** (power + 1)))
     assert alias(f0, T, Tc, floor) == pytest.approx(brute, rel=rel, abs=0)
+
+
+def test_cpmg_lobe_areas_add_up_to_parseval():
+    # Parseval: integral_0^inf |G(f)|^2 df = (1/2) integral g(t)^2 dt = T/2 for a +-1 sensitivity function
+    # of length T (ideal pulses), and the odd-harmonic lobe areas 4T/(pi^2 k^2) sum to (4T/pi^2)(pi^2/8) = T/2
+    # (Cywinski et al. 2008, Phys. Rev. B 77, 174509; sum of 1/k^2 over odd k, analytic)
+    from gwclock.physics.sequences import SEQUENCES
+    d = load_mission(None)[0].design().replace(pi_pulse_duration=0.0)
+    k = 2 * np.arange(200_000) + 1.0
+    T = 3.7
+    area = SEQUENCES["cpmg"].lobe_areas(d, 2.0, 14, T, k).sum()
+    assert area == pytest.approx(T / 2, rel=2e-6, abs=0)  # tail of the sum ~ 1/(2 k_max)
+
+
+def test_background_scan_refuses_a_kind_without_lobe_areas():
+    from gwclock.studies.background import clock_scan_power_law
+    m = load_mission(None)[0]
+    d = m.design().replace(kind="custom", pulse_times=(0.25, 0.75))
+    with pytest.raises(ValueError, match="lobe areas"):
+        clock_scan_power_law(d, [0.05, 0.1], 3e7, np.geomspace(0.01, 1, 10))

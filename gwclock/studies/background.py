@@ -25,7 +25,6 @@ import numpy as np
 from ..engine import best_sequence
 from ..engine.evaluate import total_psd
 from ..physics import response
-from ..physics.filters import finite_pulse_factor
 from ..physics.sequences import SEQUENCES
 
 __all__ = ["hubble_constant", "omega_from_strain_psd", "strain_psd_from_omega", "omega_noise",
@@ -84,7 +83,8 @@ def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None
 
     For each tuning the per-cycle signal variance of a background of unit amplitude,
     ``(2 pi nu0)^2 integral R1 |H_PLL|^2 S_h |G|^2 df``, is summed over the odd harmonics of the
-    DD filter (lobe areas 4T/(pi^2 k^2); Ramsey uses its low-pass main lobe), and the per-cycle
+    DD filter (the kind's ``lobe_areas``, 4T/(pi^2 k^2) for CPMG timing; Ramsey uses its low-pass
+    main lobe), and the per-cycle
     noise variance is ``(2 pi nu0)^2 |G(f0)|^2 S_y,eq / (2 Tc)``.
 
     Returns
@@ -110,10 +110,14 @@ def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None
     k = 2 * np.arange(harmonics) + 1.0
     f_ref = f_ref or float(np.sqrt(fk[0] * fk[-1]))
 
+    kind = SEQUENCES[design.kind]
+    if np.any(dd) and not hasattr(kind, "lobe_areas"):
+        raise ValueError(f"the clock-scan background needs the lobe areas of the filter function; the {design.kind} "
+                         "kind does not provide them (use cpmg, xy8 or echo)")
+    weight = kind.lobe_areas(design, fk, n, T, k) if np.any(dd) else np.zeros((fk.size, k.size))
+
     def signal_variance(beta):
         fh = fk[:, None] * k[None, :]
-        duty = 2 * fk[:, None] * design.pi_pulse_duration * k[None, :]
-        weight = 4 * T[:, None] / (np.pi**2 * k[None, :] ** 2) * finite_pulse_factor(duty) ** 2
         resp = 0.5 * response.link_response(fh, design.baseline, design.path) * \
             response.phase_lock_transfer(fh, design.phase_lock_bandwidth)
         sh = strain_psd_from_omega(fh, (fh / f_ref) ** beta, h0)

@@ -67,11 +67,14 @@ class SequenceKind(Protocol):
         """|G(f)| in s at GW frequencies f."""
 
     def aliased(self, design, terms, f0, n, T, Tc):
-        """``sum_m S_y(|f0 + m/Tc|) |G(f0 + m/Tc)|^2`` in s^2/Hz... times 1/Hz: the stationary
-        noise aliased into one cycled measurement (before division by |G(f0)|^2)."""
+        """``sum_m S_y(|f0 + m/Tc|) |G(f0 + m/Tc)|^2`` (s^2/Hz): the stationary noise aliased into
+        one cycled measurement, before division by |G(f0)|^2."""
 
     def common_mode(self, design, terms, f0, n, T):
         """Laser phase variance (rad^2) through the filter: decides the correlated read-out."""
+
+    # Optional: ``lobe_areas(design, f0, n, T, k)``, the area (s) of the lobe of |G|^2 at each odd
+    # harmonic k f0, which the clock-scan background needs (kinds without it are refused there).
 
 
 #: The sequence kinds, by the name a mission file uses.

@@ -64,6 +64,13 @@ class Periodic:
     def fundamental(self, design, f0, n, T):
         return (2 * T / np.pi) * filters.finite_pulse_factor(2 * f0 * design.pi_pulse_duration)
 
+    def lobe_areas(self, design, f0, n, T, k):
+        """Area (s) of the lobe of |G|^2 at each odd harmonic ``k f0``: ``4 T / (pi^2 k^2)`` times the
+        finite-pulse factor squared, so that a smooth spectrum S gives ``integral S |G|^2 df ~
+        sum_k S(k f0) area_k`` (Cywinski et al. 2008, Phys. Rev. B 77, 174509)."""
+        duty = 2 * np.asarray(f0)[..., None] * design.pi_pulse_duration * k
+        return 4 * np.asarray(T)[..., None] / (np.pi**2 * k**2) * filters.finite_pulse_factor(duty) ** 2
+
     def modulus(self, design, f, n, T):
         return filters.periodic_filter_modulus(f, T, n, design.pi_pulse_duration)
 
