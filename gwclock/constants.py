@@ -19,3 +19,5 @@ MPC = 1e6 * PC
 YEAR = 365.25 * 86400.0
 #: Day, s.
 DAY = 86400.0
+
+__all__ = ["c", "h", "G", "MSUN", "PC", "MPC", "YEAR", "DAY"]

@@ -5,9 +5,12 @@ carry what the rest of the code needs (common practice, no source)."""
 from __future__ import annotations
 
 import ast
+import importlib
+import inspect
 
 import pytest
 
+import gwclock
 from tests import import_graph
 
 #: Libraries a function may import on first use, so that start-up and table-only runs skip them.
@@ -124,3 +127,37 @@ class TestSequenceRegistry:
         from gwclock.config.mission import Sequence
         from gwclock.physics.sequences import SEQUENCES
         assert get_args(Sequence.model_fields["kind"].annotation) == tuple(SEQUENCES)
+
+
+class TestPublicAPI:
+    def test_the_api_matches_its_snapshot(self):
+        # a change of a public name or signature must be deliberate: `python tests/public_api.py --write`
+        from tests import public_api
+        assert public_api.snapshot() == public_api.SNAPSHOT.read_text()
+
+    def test_every_library_module_declares_its_api(self):
+        missing = [m for m in import_graph.modules() if not m.startswith(("gwclock.__main__", "gwclock.bench"))
+                   and not hasattr(importlib.import_module(m), "__all__")]
+        assert missing == []
+
+    def test_tab_completion_lists_the_lazy_exports(self):
+        assert set(gwclock.__all__) <= set(dir(gwclock))
+        for name in gwclock.__all__:
+            assert getattr(gwclock, name) is not None
+        with pytest.raises(AttributeError):
+            gwclock.no_such_name  # noqa: B018
+
+    def test_every_public_function_and_class_has_a_docstring(self):
+        from tests import public_api
+        bare = []
+        for m in import_graph.modules():
+            if m.startswith(public_api.SKIP) or m.startswith("gwclock.cli"):
+                continue
+            module = importlib.import_module(m)
+            if not (module.__doc__ or "").strip():
+                bare.append(m)
+            for name in module.__all__:
+                obj = getattr(module, name)
+                if (inspect.isfunction(obj) or inspect.isclass(obj)) and not (obj.__doc__ or "").strip():
+                    bare.append(f"{m}.{name}")
+        assert bare == []

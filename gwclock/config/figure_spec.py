@@ -113,6 +113,8 @@ class Axes(_Item):
 
 
 class FigureSpec(_Item):
+    """A whole figure: its form (ASD, characteristic strain or Omega_gw), size, axes and the items drawn."""
+
     title: str = ""
     form: Literal["asd", "hc", "omega"] = "asd"
     size: Literal["one-column", "two-column"] = "two-column"

@@ -1,0 +1,3 @@
+"""Built-in data files: the default mission."""
+
+__all__: list[str] = []

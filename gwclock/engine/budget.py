@@ -101,6 +101,7 @@ def frequency_grid(fmin, fmax, points):
 
 
 def check_grid(frequency):
+    """The frequencies as a float array, refused unless 1-D, positive, finite and strictly increasing."""
     f = np.asarray(frequency, dtype=float)
     if f.ndim != 1 or f.size == 0:
         raise ValueError("frequencies must be a non-empty one-dimensional array")

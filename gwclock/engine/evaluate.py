@@ -77,6 +77,7 @@ def projection_term(design, Tc, var, G0sq):
     return 2 * Tc * var / ((2 * np.pi * design.nu0) ** 2 * G0sq)
 
 def total_psd(parts):
+    """Sum of the noise PSDs of a budget dict (the keys of :data:`~gwclock.physics.noises.NOISES`)."""
     return sum(parts[k] for k in noises.NOISES)
 
 def pick(parts, index):

@@ -22,6 +22,7 @@ CONVENTION = ("sky- and polarisation-averaged equivalent strain, one-sided "
 
 
 def Column(data, unit=None):
+    """An astropy table column with a unit."""
     return _Column(data, unit=unit)
 
 

@@ -4,3 +4,5 @@ noises of the link, filter functions, and the pulse-sequence kinds.
 Nothing here knows about files, missions or outputs: every function takes SI floats (or arrays)
 and a :class:`~gwclock.physics.design.Design`.
 """
+
+__all__: list[str] = []
