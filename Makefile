@@ -4,8 +4,9 @@ VENV   := .venv
 BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed
 TESTED := $(VENV)/.installed-test
+DOCS   := $(VENV)/.installed-docs
 
-.PHONY: demo test mutants plots bench clean
+.PHONY: demo test lint docs mutants plots bench clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -20,14 +21,27 @@ $(TESTED): $(STAMP)
 	$(BIN)/python -m pip install --quiet -e '.[test]'
 	touch $(TESTED)
 
+$(DOCS): $(STAMP)
+	$(BIN)/python -m pip install --quiet -e '.[docs]'
+	touch $(DOCS)
+
 demo: $(STAMP)
 	mkdir -p out
 	$(BIN)/gwclock curve --table out/envelope.ecsv --plot out/envelope.png
 	@echo "wrote out/envelope.ecsv and out/envelope.png"
 
 test: $(TESTED)
+	$(BIN)/ruff check gwclock tests
 	$(BIN)/python -m pytest --cov --cov-report=json:.coverage.json --cov-report=term-missing:skip-covered
 	$(BIN)/python tests/coverage_floor.py .coverage.json 90
+
+lint: $(TESTED)
+	$(BIN)/ruff check gwclock tests
+
+# the documentation site (user guide, model, API reference); any Sphinx warning fails the build
+docs: $(DOCS)
+	$(BIN)/python -m sphinx -W --keep-going -q -b html docs docs/_build/html
+	@echo "wrote docs/_build/html/index.html"
 
 # every physics mutant of tests/mutants.toml must make its tests fail (about 8 min on 2 cores)
 mutants: $(TESTED)
@@ -40,4 +54,4 @@ bench: $(TESTED)
 	$(BIN)/python -m gwclock.bench
 
 clean:
-	rm -rf out build *.egg-info .coverage .coverage.json
+	rm -rf out build docs/_build *.egg-info .coverage .coverage.json
