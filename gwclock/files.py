@@ -30,7 +30,7 @@ def register_input(path) -> None:
     """Remember a file the user gave as input, so that no output can ever overwrite it."""
     try:
         _INPUTS.add(Path(path).resolve())
-    except OSError:
+    except (OSError, RuntimeError):  # a symlink loop resolves to nothing: it cannot be an output either
         pass
 
 
@@ -38,7 +38,7 @@ def is_input(path) -> bool:
     """Whether ``path`` names one of this run's input files."""
     try:
         return Path(path).resolve() in _INPUTS
-    except OSError:
+    except (OSError, RuntimeError):
         return False
 
 

@@ -14,6 +14,7 @@ from astropy.table import QTable, Table
 from gwclock.cli import main
 from gwclock.config.mission import load_mission
 from gwclock.engine import envelope
+from gwclock.errors import InputError
 
 from .conftest import MISSIONS
 
@@ -246,3 +247,49 @@ def test_an_input_file_is_never_overwritten(tmp_path, capsys):
     code, _, err = run(["reference", curve, "--fmin", "1", "--fmax", "10", "--table", curve], capsys)
     assert code == 2 and "input files" in err
     assert curve.read_text() == before
+
+
+class TestEntryPoint:
+    """Exit codes and one-line errors of the command line (common practice, no source)."""
+
+    def test_cite_prints_the_model_references(self, capsys):
+        code, out, _ = run(["--cite"], capsys)
+        assert code == 0 and "Robson, Cornish & Liu 2019" in out and "Itano et al. 1993" in out
+
+    def test_no_command_prints_the_help_and_exits_2(self, capsys):
+        code, out, _ = run([], capsys)
+        assert code == 2 and "usage: gwclock" in out
+
+    def test_an_unreachable_tuning_is_one_line_and_exit_2(self, capsys):
+        code, _, err = run(["window", "--tune", "1e5 Hz"], capsys)
+        assert code == 2 and err.count("\n") == 1 and err.startswith("gwclock: error:")
+
+    def test_a_library_refusal_is_one_line_and_exit_2(self, capsys, monkeypatch):
+        from gwclock.cli import design
+
+        def refuse(args):
+            raise ValueError("no sequence fits\n  at this tuning")
+        monkeypatch.setattr(design, "cmd_check", refuse)
+        code, _, err = run(["check"], capsys)
+        assert (code, err) == (2, "gwclock: error: no sequence fits at this tuning\n")
+        with pytest.raises(ValueError):
+            main(["--debug", "check"])
+
+    def test_debug_shows_the_exception(self):
+        with pytest.raises(InputError):
+            main(["--debug", "curve", "--points", "1"])
+
+    def test_an_interruption_exits_130(self, capsys, monkeypatch):
+        from gwclock.cli import design
+
+        def interrupted(args):
+            raise KeyboardInterrupt
+        monkeypatch.setattr(design, "cmd_check", interrupted)
+        code, _, err = run(["check"], capsys)
+        assert code == 130 and "interrupted" in err
+
+    def test_sigterm_becomes_an_interruption(self):
+        import signal
+        main(["--cite"])
+        with pytest.raises(KeyboardInterrupt):
+            signal.getsignal(signal.SIGTERM)(signal.SIGTERM, None)

@@ -13,6 +13,7 @@ from astropy import constants as const
 from gwclock.astro.references import user_curve
 from gwclock.astro.sources import Inspiral, Monochromatic, load_sources
 from gwclock.config.figure_spec import load_spec
+from gwclock.config.mission import load_mission
 from gwclock.constants import MPC
 from gwclock.errors import InputError
 from gwclock.outputs.figures import render_spec
@@ -185,3 +186,43 @@ def test_bad_spec_values(tmp_path, change, fragment):
     p.write_text(SPEC.replace(*change, 1))
     with pytest.raises(InputError, match=fragment):
         load_spec(p)
+
+
+class TestFiles:
+    """Input and output paths (common practice, no source)."""
+
+    def test_a_symlink_loop_is_neither_an_input_nor_a_crash(self, tmp_path):
+        from gwclock.files import is_input, register_input
+        (tmp_path / "a").symlink_to(tmp_path / "b")
+        (tmp_path / "b").symlink_to(tmp_path / "a")
+        register_input(tmp_path / "a")  # must not raise
+        assert isinstance(is_input(tmp_path / "a"), bool)
+
+    def test_an_output_path_that_is_a_folder_is_refused(self, tmp_path):
+        from gwclock.files import check_output_path
+        (tmp_path / "out.ecsv").mkdir()
+        with pytest.raises(InputError, match="is a folder"):
+            check_output_path(tmp_path / "out.ecsv", (".ecsv",))
+
+    def test_an_unreadable_path_names_the_file(self, tmp_path):
+        from gwclock.files import read_toml
+        (tmp_path / "plain").write_text("x")
+        with pytest.raises(InputError, match="cannot read the mission file") as err:
+            read_toml(tmp_path / "plain" / "m.toml", "mission file")
+        assert str(tmp_path / "plain" / "m.toml") in str(err.value)
+
+
+class TestGrids:
+    @pytest.mark.parametrize("args, message", [((0.0, 1.0, 10), "positive"), ((1.0, np.inf, 10), "positive"),
+                                               ((2.0, 1.0, 10), "below"), ((1.0, 2.0, 1), "at least 2")])
+    def test_bad_grids_are_refused(self, args, message):
+        from gwclock.engine import frequency_grid
+        with pytest.raises(ValueError, match=message):
+            frequency_grid(*args)
+
+    @pytest.mark.parametrize("f, message", [([], "non-empty"), ([[1.0, 2.0]], "one-dimensional"), ([1.0, -2.0], "positive"),
+                                            ([1.0, np.nan], "positive"), ([2.0, 1.0], "increase")])
+    def test_bad_frequency_arrays_are_refused(self, f, message):
+        from gwclock.engine import envelope
+        with pytest.raises(ValueError, match=message):
+            envelope(load_mission(None)[0].design(), f)

@@ -89,6 +89,3 @@ def main(argv=None) -> int:
         print("gwclock: interrupted", file=sys.stderr)
         return 130
 
-
-if __name__ == "__main__":
-    sys.exit(main())
