@@ -14,7 +14,7 @@ from ..constants import MPC, MSUN, YEAR
 from ..engine import envelope
 from ..errors import InputError
 from ..outputs.plotting import plot_lines
-from ..outputs.tables import Column, provenance
+from ..outputs.tables import Column, provenance, reference_table, snr_table, track_table
 from ..quantities import parse_frequency
 from ..studies import background as bg
 from ..studies.horizon import horizon
@@ -93,14 +93,7 @@ def cmd_reference(args):
         psd, conv = ref.native(f, **opts), ref.convention
     else:
         psd, conv = ref.sky_averaged(f, **opts), "sky-averaged"
-    t = Table()
-    t["frequency"] = Column(f, unit="Hz")
-    t["asd"] = Column(np.sqrt(psd), unit="Hz(-1/2)")
-    t.meta.update(provenance(ref.label, "-"))
-    t.meta.update(reference=ref.key, source=ref.source, convention=conv,
-                  sky_factor=ref.sky_factor, valid_band=f"{ref.band[0]:g} Hz to {ref.band[1]:g} Hz")
-    if opts:
-        t.meta["galactic_confusion_years"] = opts["confusion_years"]
+    t = reference_table(ref, f, psd, conv, opts)
     print(f"{ref.label}: {conv}; {ref.source}")
     if args.table:
         save_table(t, args.table)
@@ -120,14 +113,7 @@ def cmd_track(args):
         tau, f, hc = src.track(fmin, fmax, args.points)
     except ValueError as exc:
         raise InputError(str(exc), source="command line") from None
-    t = Table()
-    t["time_to_merger"] = Column(tau, unit="s")
-    t["frequency"] = Column(f, unit="Hz")
-    t["hc"] = Column(hc)
-    t.meta.update(provenance(src.name, "-"))
-    t.meta.update(chirp_mass_detector_frame_msun=src.chirp_mass / MSUN, redshift=src.redshift,
-                  luminosity_distance_m=src.distance, isco_frequency_hz=src.isco_frequency,
-                  convention="h_c = 2 f |h~| averaged over sky, polarisation and inclination (RCL normalisation)")
+    t = track_table(src, tau, f, hc)
     print(f"{src.name}: z = {src.redshift:.4g}, detector-frame chirp mass "
           f"{src.chirp_mass / MSUN:.5g} Msun, last stable orbit at {src.isco_frequency:.4g} Hz")
     marks = []
@@ -171,17 +157,7 @@ def cmd_snr(args):
         band = f"{r.f_start:.3g}-{r.f_end:.3g} Hz" if np.isfinite(r.f_start) else "-"
         print(f"{r.detector[:32]:32s} {r.source[:30]:30s} {r.schedule:9s} {r.snr:10.4g}  {band}  {r.note}")
     if args.table:
-        t = Table()
-        t["detector"] = [r.detector for r in rows]
-        t["source"] = [r.source for r in rows]
-        t["schedule"] = [r.schedule for r in rows]
-        t["snr"] = Column([r.snr for r in rows])
-        t["f_start"] = Column([r.f_start for r in rows], unit="Hz")
-        t["f_end"] = Column([r.f_end for r in rows], unit="Hz")
-        t["observed"] = Column([r.observed for r in rows], unit="s")
-        t["note"] = [r.note for r in rows]
-        t.meta.update(provenance(mission.name, digest))
-        t.meta["convention"] = "sky-, polarisation- and inclination-averaged SNR; references converted to sky average"
+        t = snr_table(rows, mission.name, digest)
         save_table(t, args.table)
     return 0
 

@@ -53,30 +53,57 @@ def _render(spec, base_dir, ax):
     if ax is None:
         fig = Figure(figsize=SIZES[spec.size], layout="constrained")
         ax = fig.add_subplot()
-    else:
-        fig = ax.figure
-    small = spec.size == "one-column"
-    f = np.geomspace(spec.axes.fmin, spec.axes.fmax, spec.axes.points)
-    h0 = hubble_constant() if spec.form == "omega" else None
-    artists = {"curves": [], "marks": [], "annotations": []}
-    provenance = {"tool": f"gwclock {__version__}", "missions": []}
-    styles = {"mission": iter(MISSION_STYLES * 10), "reference": iter(REFERENCE_STYLES * 10),
-              "source": iter(SOURCE_STYLES * 10)}
-    lw_scale = 0.75 if small else 1.0
+    canvas = _Canvas(spec, ax)
+    for item in spec.mission:
+        canvas.mission(item, base_dir)
+    for item in spec.reference:
+        canvas.reference(item)
+    if spec.form != "omega":
+        for item in spec.track:
+            canvas.track(item)
+        for item in spec.point:
+            canvas.point(item)
+    canvas.finish()
+    return ax.figure, canvas.artists, canvas.provenance
 
-    def line(x, y, label, family="mission", **extra):
-        st = dict(next(styles[family]))
-        st["lw"] = st.get("lw", 1.5) * lw_scale
+
+#: The caption of each form: the convention in a few words.
+CAPTIONS = {"asd": "sky-averaged; sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)",
+            "hc": "sky-averaged; h_n = sqrt(f S_n); monochromatic h_c = h0 sqrt(f T)",
+            "omega": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0"}
+
+
+class _Canvas:
+    """The axes of one spec with its grid, styles and the artists drawn so far; one method per item kind."""
+
+    def __init__(self, spec, ax):
+        self.spec, self.ax = spec, ax
+        self.small = spec.size == "one-column"
+        self.f = np.geomspace(spec.axes.fmin, spec.axes.fmax, spec.axes.points)
+        self.h0 = hubble_constant() if spec.form == "omega" else None
+        self.artists = {"curves": [], "marks": [], "annotations": []}
+        self.provenance = {"tool": f"gwclock {__version__}", "missions": []}
+        self.styles = {"mission": iter(MISSION_STYLES * 10), "reference": iter(REFERENCE_STYLES * 10),
+                       "source": iter(SOURCE_STYLES * 10)}
+        self.lw_scale = 0.75 if self.small else 1.0
+
+    def form(self, f, s_n):
+        return _transform(self.spec.form, f, s_n, self.h0)
+
+    def line(self, x, y, label, family="mission", **extra):
+        st = dict(next(self.styles[family]))
+        st["lw"] = st.get("lw", 1.5) * self.lw_scale
         st.update(extra)
         y = np.where(np.isfinite(y) & (y > 0), y, np.nan)
-        (ln,) = ax.plot(x, y, label=label, **st)
-        artists["curves"].append(ln)
+        (ln,) = self.ax.plot(x, y, label=label, **st)
+        self.artists["curves"].append(ln)
         return ln
 
-    for item in spec.mission:
+    def mission(self, item, base_dir):
+        f, ax = self.f, self.ax
         path = None if item.file == "default" else (Path(base_dir) / item.file)
         mission, digest = load_mission(path)
-        provenance["missions"].append(f"{mission.name} sha256 {digest}")
+        self.provenance["missions"].append(f"{mission.name} sha256 {digest}")
         d = mission.design()
         if item.mode == "envelope":
             b = envelope(d, f)
@@ -87,76 +114,86 @@ def _render(spec, base_dir, ax):
             except ValueError as exc:
                 raise InputError(str(exc), source=str(path or "default"), field="tune") from None
             label = item.label or f"{mission.name} (tuned to {item.tune:.3g} Hz)"
-        ln = line(f, _transform(spec.form, f, b.total, h0), label)
+        ln = self.line(f, self.form(f, b.total), label)
         if item.noises:
             for name, nst in noise_styles().items():
-                y = _transform(spec.form, f, b.psd[name], h0)
+                y = self.form(f, b.psd[name])
                 (c,) = ax.plot(f, np.where(y > 0, y, np.nan), color=nst["color"], linestyle=nst["linestyle"],
-                               lw=0.9 * lw_scale, label=f"  {nst['label']}")
-                artists["curves"].append(c)
+                               lw=0.9 * self.lw_scale, label=f"  {nst['label']}")
+                self.artists["curves"].append(c)
         if item.mode == "window":
-            artists["annotations"].append(ax.axvline(item.tune, color=ln.get_color(), lw=0.6, linestyle=":"))
-        if item.band and spec.form == "asd":
-            lo, hi = b.band_below(item.band)
-            if np.isfinite(lo):
-                for x in (lo, hi):
-                    artists["annotations"].append(ax.axvline(x, color=ln.get_color(), lw=0.6, linestyle="--"))
-                artists["annotations"].append(ax.annotate(
-                    f"ASD < {item.band:.0e}: {lo:.2g}-{hi:.2g} Hz", (np.sqrt(lo * hi), item.band),
-                    fontsize="x-small", ha="center", va="bottom", color=ln.get_color()))
-    for item in spec.reference:
+            self.artists["annotations"].append(ax.axvline(item.tune, color=ln.get_color(), lw=0.6, linestyle=":"))
+        if item.band and self.spec.form == "asd":
+            self._band(b, item.band, ln.get_color())
+
+    def _band(self, budget, level, colour):
+        lo, hi = budget.band_below(level)
+        if not np.isfinite(lo):
+            return
+        for x in (lo, hi):
+            self.artists["annotations"].append(self.ax.axvline(x, color=colour, lw=0.6, linestyle="--"))
+        self.artists["annotations"].append(self.ax.annotate(
+            f"ASD < {level:.0e}: {lo:.2g}-{hi:.2g} Hz", (np.sqrt(lo * hi), level),
+            fontsize="x-small", ha="center", va="bottom", color=colour))
+
+    def reference(self, item):
         try:
             ref = get_reference(item.name)
         except KeyError as exc:
             raise InputError(str(exc.args[0]), source="figure spec", field="reference.name", value=item.name) from None
         opts = ref.options_for(item.confusion)
-        fr = f[(f >= ref.band[0]) & (f <= ref.band[1])]
-        if fr.size < 2:
-            continue
-        line(fr, _transform(spec.form, fr, ref.sky_averaged(fr, **opts), h0), item.label or ref.label, "reference")
-    if spec.form != "omega":
-        for item in spec.track:
-            src = Inspiral.from_masses(item.mass1, item.mass2, distance=item.distance, redshift=item.redshift)
-            top = min(spec.axes.fmax, src.isco_frequency)
-            if top <= spec.axes.fmin:
-                continue
-            ft = np.geomspace(spec.axes.fmin, top, 300)
-            hc = src.characteristic_strain(ft)
-            y = hc if spec.form == "hc" else hc / np.sqrt(ft)
-            ln = line(ft, y, item.label or f"{item.mass1:g}+{item.mass2:g} Msun", "source")
-            if item.marks:
-                for label, before in MARKS.items():
-                    fm = float(src.frequency_at(before))
-                    if ft[0] <= fm <= ft[-1]:
-                        ym = float(src.characteristic_strain(fm)) / (1 if spec.form == "hc" else np.sqrt(fm))
-                        artists["marks"].append(ax.plot([fm], [ym], marker="o", ms=3, color=ln.get_color())[0])
-                        artists["annotations"].append(ax.annotate(label, (fm, ym), xytext=(3, 3),
-                                                                  textcoords="offset points", fontsize="xx-small"))
-        for item in spec.point:
-            y = item.h0 * np.sqrt(spec.observation) * (np.sqrt(item.frequency) if spec.form == "hc" else 1.0)
-            pt = ax.plot([item.frequency], [y], marker="*", ms=7 * lw_scale, linestyle="none", color="black",
-                         label=item.label or f"source at {item.frequency:.3g} Hz")[0]
-            artists["marks"].append(pt)
-    ax.set_xscale("log")
-    ax.set_yscale("log")
-    ax.set_xlim(spec.axes.fmin, spec.axes.fmax)
-    if spec.axes.ymin or spec.axes.ymax:
-        ax.set_ylim(spec.axes.ymin, spec.axes.ymax)
-    ax.set_xlabel("frequency [Hz]")
-    ax.set_ylabel(YLABELS[spec.form])
-    ax.grid(True, which="major", alpha=0.3)
-    if spec.title:
-        ax.set_title(spec.title)
-    if small:  # one column: the legend goes under the axes, in two columns
-        artists["legend"] = ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, frameon=False)
-    else:
-        artists["legend"] = ax.legend(loc="best", framealpha=0.85)
-    caption = {"asd": "sky-averaged; sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)",
-               "hc": "sky-averaged; h_n = sqrt(f S_n); monochromatic h_c = h0 sqrt(f T)",
-               "omega": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0"}[spec.form]
-    artists["caption"] = ax.text(0.995, 0.005, caption, transform=ax.transAxes, fontsize=4 if small else 6,
-                                 color="0.35", ha="right", va="bottom")
-    return fig, artists, provenance
+        fr = self.f[(self.f >= ref.band[0]) & (self.f <= ref.band[1])]
+        if fr.size >= 2:
+            self.line(fr, self.form(fr, ref.sky_averaged(fr, **opts)), item.label or ref.label, "reference")
+
+    def _source_value(self, hc, f):
+        """An inspiral's h_c in the spec's form: h_c itself, or 2 sqrt(f)|h~| = h_c / sqrt(f)."""
+        return hc if self.spec.form == "hc" else hc / np.sqrt(f)
+
+    def track(self, item):
+        spec, ax = self.spec, self.ax
+        src = Inspiral.from_masses(item.mass1, item.mass2, distance=item.distance, redshift=item.redshift)
+        top = min(spec.axes.fmax, src.isco_frequency)
+        if top <= spec.axes.fmin:
+            return
+        ft = np.geomspace(spec.axes.fmin, top, 300)
+        ln = self.line(ft, self._source_value(src.characteristic_strain(ft), ft),
+                       item.label or f"{item.mass1:g}+{item.mass2:g} Msun", "source")
+        if not item.marks:
+            return
+        for label, before in MARKS.items():
+            fm = float(src.frequency_at(before))
+            if ft[0] <= fm <= ft[-1]:
+                ym = float(self._source_value(src.characteristic_strain(fm), fm))
+                self.artists["marks"].append(ax.plot([fm], [ym], marker="o", ms=3, color=ln.get_color())[0])
+                self.artists["annotations"].append(ax.annotate(label, (fm, ym), xytext=(3, 3),
+                                                               textcoords="offset points", fontsize="xx-small"))
+
+    def point(self, item):
+        spec = self.spec
+        y = item.h0 * np.sqrt(spec.observation) * (np.sqrt(item.frequency) if spec.form == "hc" else 1.0)
+        pt = self.ax.plot([item.frequency], [y], marker="*", ms=7 * self.lw_scale, linestyle="none", color="black",
+                          label=item.label or f"source at {item.frequency:.3g} Hz")[0]
+        self.artists["marks"].append(pt)
+
+    def finish(self):
+        spec, ax = self.spec, self.ax
+        ax.set_xscale("log")
+        ax.set_yscale("log")
+        ax.set_xlim(spec.axes.fmin, spec.axes.fmax)
+        if spec.axes.ymin or spec.axes.ymax:
+            ax.set_ylim(spec.axes.ymin, spec.axes.ymax)
+        ax.set_xlabel("frequency [Hz]")
+        ax.set_ylabel(YLABELS[spec.form])
+        ax.grid(True, which="major", alpha=0.3)
+        if spec.title:
+            ax.set_title(spec.title)
+        if self.small:  # one column: the legend goes under the axes, in two columns
+            self.artists["legend"] = ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, frameon=False)
+        else:
+            self.artists["legend"] = ax.legend(loc="best", framealpha=0.85)
+        self.artists["caption"] = ax.text(0.995, 0.005, CAPTIONS[spec.form], transform=ax.transAxes,
+                                          fontsize=4 if self.small else 6, color="0.35", ha="right", va="bottom")
 
 
 def save_spec_figure(fig, path, spec, digest, provenance):

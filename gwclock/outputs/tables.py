@@ -5,15 +5,18 @@ from __future__ import annotations
 import datetime as _dt
 from pathlib import Path
 
+import numpy as np
 from astropy.table import Column as _Column
 from astropy.table import Table
 
+from ..constants import MSUN
 from ..files import TABLE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
 from ..version import __version__
 from .ecsv import supported, write_ecsv
 
-__all__ = ["budget_table", "provenance", "write_table", "Column", "ENVELOPE_NOTE", "CONVENTION"]
+__all__ = ["budget_table", "reference_table", "track_table", "snr_table", "provenance", "write_table", "Column",
+           "ENVELOPE_NOTE", "CONVENTION"]
 
 ENVELOPE_NOTE = ("tuned envelope: every frequency uses its own best tuning of the pulse sequence; "
                  "no single tuning reaches this curve at every frequency at once")
@@ -65,6 +68,48 @@ def budget_table(budget, mission_name: str, digest: str):
     else:
         t.meta["note"] = f"fixed tuning at {float(budget.tuning[0]):.6g} Hz"
     t.meta["convention"] = CONVENTION
+    return t
+
+
+def reference_table(ref, f, psd, convention, options):
+    """A reference detector's curve: frequency and ASD, with its source, convention and band."""
+    t = Table()
+    t["frequency"] = Column(f, unit="Hz")
+    t["asd"] = Column(np.sqrt(psd), unit="Hz(-1/2)")
+    t.meta.update(provenance(ref.label, "-"))
+    t.meta.update(reference=ref.key, source=ref.source, convention=convention,
+                  sky_factor=ref.sky_factor, valid_band=f"{ref.band[0]:g} Hz to {ref.band[1]:g} Hz")
+    if options:
+        t.meta["galactic_confusion_years"] = options["confusion_years"]
+    return t
+
+
+def track_table(source, tau, f, hc):
+    """An inspiral's track: time to merger, frequency and characteristic strain, with its parameters."""
+    t = Table()
+    t["time_to_merger"] = Column(tau, unit="s")
+    t["frequency"] = Column(f, unit="Hz")
+    t["hc"] = Column(hc)
+    t.meta.update(provenance(source.name, "-"))
+    t.meta.update(chirp_mass_detector_frame_msun=source.chirp_mass / MSUN, redshift=source.redshift,
+                  luminosity_distance_m=source.distance, isco_frequency_hz=source.isco_frequency,
+                  convention="h_c = 2 f |h~| averaged over sky, polarisation and inclination (RCL normalisation)")
+    return t
+
+
+def snr_table(rows, mission_name: str, digest: str):
+    """SNR results (:class:`~gwclock.studies.snr.SNRResult`), one row each."""
+    t = Table()
+    t["detector"] = [r.detector for r in rows]
+    t["source"] = [r.source for r in rows]
+    t["schedule"] = [r.schedule for r in rows]
+    t["snr"] = Column([r.snr for r in rows])
+    t["f_start"] = Column([r.f_start for r in rows], unit="Hz")
+    t["f_end"] = Column([r.f_end for r in rows], unit="Hz")
+    t["observed"] = Column([r.observed for r in rows], unit="s")
+    t["note"] = [r.note for r in rows]
+    t.meta.update(provenance(mission_name, digest))
+    t.meta["convention"] = "sky-, polarisation- and inclination-averaged SNR; references converted to sky average"
     return t
 
 
