@@ -248,3 +248,48 @@ def test_background_scan_refuses_a_kind_without_lobe_areas():
     d = m.design().replace(kind="custom", pulse_times=(0.25, 0.75))
     with pytest.raises(ValueError, match="lobe areas"):
         clock_scan_power_law(d, [0.05, 0.1], 3e7, np.geomspace(0.01, 1, 10))
+
+
+@pytest.mark.parametrize("B_over_f0", [0.3, 0.6, 2.0, 4.0, 10.0])
+def test_white_phase_integral_below_and_above_the_first_lobe(B_over_f0):
+    # direct quadrature of f^2 |G(f)|^2 from the exact filter function (CPMG, n = 20, T = 1 s; analytic
+    # check of the lobe-plus-plateau form of Cywinski et al. 2008, Phys. Rev. B 77, 174509): exact between
+    # lobes (B an even multiple of f0), and about zero below the first lobe, where |G|^2 is tiny (the
+    # pi/2-pulse plateau B / (2 pi^2) must not be added there)
+    T, n = 1.0, 20
+    times = (np.arange(1, n + 1) - 0.5) * T / n
+    f0 = n / (2 * T)
+    B = B_over_f0 * f0
+    f = np.linspace(1e-9, B, 400_001)
+    numeric = np.trapezoid(f**2 * np.abs(filters.filter_function(f, T, times)) ** 2, f)
+    model = float(periodic_noise_integral(2, T, f0, B))
+    if B_over_f0 < 1:
+        assert abs(model - numeric) < 0.1 * B / (2 * np.pi**2)  # the old plateau was off by ~0.95 of it
+    else:
+        assert model == pytest.approx(numeric, rel=1e-4, abs=0)
+
+
+def test_shot_noise_is_continuous_across_the_phase_lock_bandwidth():
+    # the white-phase piece below B and the white-frequency plateau above it partition the axis:
+    # at f0 = B/k a harmonic lies on the edge and must be counted once (PSD continuous at B;
+    # common practice, no source). Neighbours at +-0.1 % differ by well under 1 %.
+    from gwclock.engine import envelope
+    d = load_mission(None)[0].design()
+    for k in (1, 3, 5):
+        f0 = d.phase_lock_bandwidth / k
+        b = envelope(d, np.array([f0, f0 * 1.001]))
+        assert b.psd["shot"][0] == pytest.approx(b.psd["shot"][1], rel=0.01, abs=0)
+
+
+@pytest.mark.parametrize("alpha", [1, 2])
+def test_ramsey_rising_noise_inside_the_main_lobe(alpha):
+    # smooth-noise form 2 Tc integral S |G|^2 df with the exact Ramsey |G|^2 = sin^2(pi f T)/(pi f)^2
+    # (scipy quadrature) for a rising noise whose band ends inside the main lobe (cutoff < 1/T)
+    from gwclock.physics.noises import PowerLaw
+    from gwclock.physics.sequences import SEQUENCES
+    d = load_mission(None)[0].design()
+    T, Tc, cutoff = 0.05, 1.05, 8.0
+    term = PowerLaw(3e-30, alpha, cutoff)
+    got = float(SEQUENCES["ramsey"].aliased(d, [term], 0.1, 0.0, T, Tc))
+    quad = integrate.quad(lambda f: term.level * f**alpha * np.sin(np.pi * f * T) ** 2 / (np.pi * f) ** 2, 0, cutoff)[0]
+    assert got == pytest.approx(2 * Tc * quad, rel=1e-9, abs=0)

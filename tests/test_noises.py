@@ -56,7 +56,9 @@ class TestLinkBudget:
         (term,) = [t for t in noises.shot_terms(d) if t.alpha == 2]
         (plateau,) = [t for t in noises.shot_terms(d) if t.alpha == 0]
         # above the loop bandwidth the loop passes (B/f)^2: continuous at B
-        assert plateau(10.0) == pytest.approx(term(10.0), rel=1e-12, abs=0)
+        # the white-phase piece covers [0, B), the plateau [B, top): they meet continuously at B
+        assert plateau(10.0) == pytest.approx(term(10.0 * (1 - 1e-12)), rel=1e-10, abs=0)
+        assert term(10.0) == 0.0 and plateau(10.0 * (1 - 1e-12)) == 0.0
         assert term.level * d.nu0**2 == pytest.approx(2.48531e-10, rel=1e-5, abs=0)
         assert term.cutoff == 10.0
 

@@ -411,13 +411,20 @@ def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
     low = np.asarray(low, dtype=float)
     if alpha >= 1 and not np.all(np.isfinite(cutoff)):
         raise ValueError("a rising noise needs a finite cutoff")
-    with np.errstate(over="ignore"):
-        count = np.floor((cutoff / f0 + 1) / 2)
-    first = np.where(low > 0, np.ceil((low / f0 - 1) / 2 - 1e-12), 0.0)
-    first = np.maximum(first, 0.0)
+    # a term covers [low, cutoff): the odd harmonics k f0 with low <= k f0 < cutoff, so that terms
+    # meeting at a band edge (the shot noise at the phase-lock bandwidth) partition the axis and a
+    # harmonic on the edge is counted once. count(c) = #{odd k < c} and first(c) = #{odd k < c} too.
+    with np.errstate(over="ignore", invalid="ignore"):
+        count = np.maximum(np.ceil((cutoff / f0 - 1) / 2), 0.0)
+    first = np.where(low > 0, np.maximum(np.ceil((low / f0 - 1) / 2), 0.0), 0.0)
     slope = (4 / np.pi**2) * f0**alpha * odd_harmonic_sum(2 - alpha, count, first)
     if alpha == 2:
-        edge = np.maximum(cutoff - low, 0.0) / (2 * np.pi**2) + 0 * f0
+        # the pi/2-pulse plateau: integral_0^x f^2 |G|^2 df = (odd-harmonic lobes below x) + x / (2 pi^2)
+        # once x has passed the first lobe (exact between lobes, by Parseval on g'), and about 0 below
+        # f0 where |G|^2 is tiny; a band [low, cutoff) takes the difference
+        def plateau(x):
+            return np.where(x >= f0, x, 0.0)
+        edge = np.maximum(plateau(cutoff) - plateau(low), 0.0) / (2 * np.pi**2)
     elif alpha == 1:
         edge = np.log(np.maximum(cutoff / np.maximum(low, f0), 1.0)) / (2 * np.pi**2)
     else:

@@ -30,7 +30,8 @@ __all__ = ["PowerLaw", "Noise", "psd", "received_power", "shot_terms", "laser_te
 
 @dataclass(frozen=True)
 class PowerLaw:
-    """One term ``level * f**alpha`` of a fractional-frequency PSD, nonzero for low <= f <= cutoff."""
+    """One term ``level * f**alpha`` of a fractional-frequency PSD, nonzero for low <= f < cutoff
+    (half-open, so that terms meeting at an edge partition the frequency axis)."""
 
     level: float
     alpha: int
@@ -39,7 +40,7 @@ class PowerLaw:
 
     def __call__(self, f):
         f = np.asarray(f, dtype=float)
-        inside = (f <= self.cutoff) & (f >= self.low)
+        inside = (f < self.cutoff) & (f >= self.low)
         return np.where(inside, self.level * np.where(inside, f, 1.0) ** self.alpha, 0.0)
 
 

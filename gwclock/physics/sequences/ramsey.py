@@ -8,6 +8,7 @@ Dick, G. J. 1987, Proc. 19th PTTI, 133; Santarelli et al. 1998, IEEE Trans. UFFC
 from __future__ import annotations
 
 import numpy as np
+from scipy import special
 
 from .. import filters
 from .integrals import int_power, power_integral
@@ -44,7 +45,7 @@ def _ramsey_harmonic_sum(terms, f0, T, Tc, harmonics, floor):
         for term, edge in zip(terms, edged):
             value = term.level * int_power(fa, term.alpha)
             if edge:
-                value = np.where((fa <= term.cutoff) & (fa >= term.low), value, 0.0)
+                value = np.where((fa < term.cutoff) & (fa >= term.low), value, 0.0)
             out = out + value
         return out
 
@@ -132,6 +133,8 @@ class Ramsey:
                 white = term.level * (Tc * T)
                 plateau = plateau if np.all(low > 0) else (white if not np.any(low) else
                                                            np.where(low > 0, plateau, white))
+            if term.alpha > 0:
+                plateau = plateau + _main_lobe(term, T, Tc)
             out = out + plateau
         if not red:
             return out
@@ -167,6 +170,28 @@ class Ramsey:
             else:
                 raise ValueError("Ramsey common-mode integral handles white and flicker FM only")
         return (2 * np.pi * design.nu0) ** 2 * out
+
+
+def _main_lobe(term, T, Tc):
+    """Rising noise (alpha = 1, 2) inside Ramsey's main lobe f < 1/T, where |G|^2 = sin^2(pi f T)/(pi f)^2
+    is not its plateau: ``2 Tc integral_low^min(1/T, cutoff) S |G|^2 df`` in closed form, with
+    ``integral sin^2(pi f T) df = f/2 - sin(2 pi f T)/(4 pi T)`` (alpha = 2) and
+    ``integral sin^2(pi f T)/f df = Cin(2 pi f T)/2``, ``Cin(x) = gamma + ln x - Ci(x)`` (alpha = 1)."""
+    lo = np.asarray(term.low, dtype=float) * np.ones_like(T)
+    hi = np.maximum(np.minimum(1.0 / T, term.cutoff), lo)
+    if term.alpha == 2:
+        def F(x):
+            return x / 2 - np.sin(2 * np.pi * T * x) / (4 * np.pi * T)
+    elif term.alpha == 1:
+        def F(x):
+            u = 2 * np.pi * T * x
+            with np.errstate(divide="ignore", invalid="ignore"):
+                ci = special.sici(u)[1]
+                cin = np.where(u > 1e-4, np.euler_gamma + np.log(np.where(u > 0, u, 1.0)) - ci, u**2 / 4)
+            return cin / 2
+    else:
+        raise ValueError("Ramsey's main lobe handles rising noise of power 1 and 2 only")
+    return 2 * Tc * term.level / np.pi**2 * (F(hi) - F(lo))
 
 
 #: c0 with integral_x^inf sinc^2(u)/u du = ln(1/x) + c0 + O(x^2) for small x (sinc(u) = sin(pi u)/(pi u));
