@@ -196,10 +196,13 @@ class TestWindow:
         assert w.total[1] * R[1] / (w.total[0] * R[0]) == pytest.approx(9.0, rel=1e-6, abs=0)
         assert w.total[2] * R[2] / (w.total[0] * R[0]) == pytest.approx(25.0, rel=1e-6, abs=0)
 
-    def test_unreachable_tuning_is_refused(self):
+    def test_a_tuning_beyond_the_pulse_bandwidth_falls_back_to_ramsey_as_the_envelope_does(self):
+        # above 1/(2 t_pi) no pi pulse fits; "tuned to f0" means the envelope's sequence at f0
+        # everywhere, so the window is Ramsey there and meets the envelope at f0 (common practice, no source)
         d = quiet_design(pi_pulse_duration=0.01)
-        with pytest.raises(ValueError, match="can be tuned"):
-            window(d, np.array([1.0, 2.0]), tune=80.0)
+        w = window(d, np.array([1.0, 80.0, 90.0]), tune=80.0)
+        assert np.all(w.pulses == 0)
+        assert w.total[1] == pytest.approx(envelope(d, np.array([80.0])).total[0], rel=1e-12, abs=0)
 
     def test_zeros_of_the_filter_stay_finite(self):
         d = quiet_design()
@@ -391,3 +394,21 @@ def test_band_below_finds_the_extent_of_a_v_shaped_curve():
     np.testing.assert_allclose(lo[:2], [0.1, 0.01], rtol=1e-12, atol=0)
     np.testing.assert_allclose(hi[:2], [10.0, 100.0], rtol=1e-12, atol=0)
     assert np.isnan(lo[2]) and np.isnan(hi[2])
+
+
+def test_a_ramsey_window_is_the_ramsey_budget_at_each_signal_frequency():
+    # with the sequence fixed, the noise of a cycled Ramsey measurement at signal frequency f is the
+    # aliasing sum over the lattice f + m/Tc of that frequency (Dick 1987, Proc. 19th PTTI, 133, from
+    # memory): the window equals the one-sequence budget evaluated at f, not at the tuning
+    from gwclock.engine import signal_response, window_psd
+    from gwclock.engine.formula import evaluate, total_psd
+    from gwclock.physics.sequences import SEQUENCES
+
+    from .conftest import ROOT
+    d = load_mission(ROOT / "mission_configs" / "flagship.toml")[0].design()
+    f = np.geomspace(1e-4, 0.05, 25)
+    s, best = window_psd(d, [0.0756], f)
+    assert best["pulses"][0] == 0  # Ramsey is the envelope's sequence at this tuning
+    T = float(best["interrogation"][0])
+    direct = total_psd(evaluate(d, SEQUENCES["ramsey"], f, 0.0, T)) / signal_response(d, f)
+    np.testing.assert_allclose(s[0], direct, rtol=1e-10, atol=0)

@@ -212,3 +212,49 @@ def test_pruned_ramsey_search_equals_the_exhaustive_one(d, gain):
     best, ok = engine.best_of_kind(d, R, f)
     assert np.array_equal(ok, np.isfinite(everything))
     np.testing.assert_allclose(engine.total_psd(best)[ok], everything[ok], rtol=1e-12, atol=0)
+
+
+# one meaning of "tuned to f0" ------------------------------------------------------------------
+@settings(max_examples=40, deadline=None)
+@given(designs, st.floats(-3, 1.5))
+def test_a_window_meets_the_envelope_at_its_tuning(d, log_f0):
+    # the sequence of a fixed tuning is the one the envelope chooses there, so the two agree at f0
+    # (definition; common practice, no source), and a scan's window is the same window
+    from gwclock.engine import window_psd
+    f0 = 10.0**log_f0
+    f = np.array(sorted({f0 / 3, f0, f0 * 2.5}))
+    w = window(d, f, tune=f0)
+    e = envelope(d, np.array([f0]))
+    i = int(np.flatnonzero(f == f0)[0])
+    assert w.total[i] == pytest.approx(e.total[0], rel=1e-12, abs=0)
+    assert (w.pulses[0], w.interrogation[0]) == (e.pulses[0], e.interrogation[0])
+    s, _ = window_psd(d, [f0], f)
+    np.testing.assert_allclose(s[0], w.total, rtol=1e-12, atol=0)
+
+
+@settings(max_examples=25, deadline=None)
+@given(designs, st.floats(-3.5, 0.5), st.floats(-23, -20))
+def test_a_monochromatic_source_tuned_to_itself_gives_the_envelope_snr(d, log_f, log_h0):
+    # <SNR^2> = h0^2 T / S_n(f) (Robson, Cornish & Liu 2019, CQG 36, 105011, sec. 2) with the
+    # envelope's S_n at the source frequency
+    from gwclock.astro.sources import Monochromatic
+    from gwclock.studies.snr import TunedCurve, clock_snr
+    f, h0 = 10.0**log_f, 10.0**log_h0
+    curve = TunedCurve(d, points=50)
+    r = clock_snr(curve, Monochromatic("m", f, h0), "fixed")
+    expected = h0 * np.sqrt(d.duration / envelope(d, np.array([f])).total[0])
+    assert r.snr == pytest.approx(expected, rel=1e-12, abs=0)
+
+
+def test_the_best_schedule_is_never_below_fixed_or_track():
+    # "best" is the best of the plans by definition (common practice, no source), on the shipped missions
+    from gwclock.astro.sources import Inspiral
+    from gwclock.studies.snr import TunedCurve, clock_snr
+    from tests.conftest import MISSIONS
+    for path in MISSIONS:
+        curve = TunedCurve(load_mission(path)[0].design())
+        for m1, z in ((1e4, 1.0), (1e3, 0.5), (30.0, 0.1)):
+            src = Inspiral.from_masses(m1, m1, redshift=z)
+            best = clock_snr(curve, src, "best").snr
+            assert best >= clock_snr(curve, src, "fixed").snr * (1 - 1e-12)
+            assert best >= clock_snr(curve, src, "track").snr * (1 - 1e-12)

@@ -4,7 +4,7 @@ Each reference carries its source and the averaging convention it was published 
 compares everything in the sky-averaged convention of Robson, Cornish & Liu (2019): a curve
 published for an optimally oriented detector (a non-sky-averaged strain PSD P_n) is divided by
 the detector's sky-averaged response R, i.e. multiplied by 5/2 for a 90-degree interferometer
-and by 10/3 for 60-degree arms (PHYSICS.md sec. 8, derivation). The factor is an explicit,
+and by 10/3 for 60-degree arms (sky average of the antenna pattern, derivation). The factor is an explicit,
 cited parameter of each curve.
 """
 

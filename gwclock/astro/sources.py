@@ -1,6 +1,6 @@
 """Astrophysical sources at leading (quadrupole) order: inspiralling and monochromatic binaries.
 
-Conventions (PHYSICS.md sec. 0 and 9): the rms amplitude ``h0`` is defined by
+Conventions (Robson, Cornish & Liu 2019; Peters 1964): the rms amplitude ``h0`` is defined by
 ``h0^2 = <a_+^2 + a_x^2>/2`` averaged over inclination, so that a monochromatic source gives
 ``<SNR^2> = h0^2 T / S_n`` against a sky-averaged S_n in the normalisation of Robson, Cornish &
 Liu (2019). For a circular binary ``h0 = sqrt(2/5) A`` with

@@ -11,6 +11,7 @@ import argparse
 
 import numpy as np
 
+from ..config.mission import mission_from_dict
 from ..engine.budget import SPAN, frequency_grid
 from ..errors import InputError
 from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
@@ -19,7 +20,7 @@ from ..outputs.tables import write_table
 from ..quantities import parse_frequency, parse_quantity
 from ..version import __version__
 
-__all__ = ["Parser", "mission_arg", "grid_args", "frequency", "grid", "quantity", "number", "check_outputs",
+__all__ = ["Parser", "mission_arg", "grid_args", "frequency", "grid", "tuned", "quantity", "number", "check_outputs",
            "save_table", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]
 
 DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = f"{SPAN[0]:g} Hz", f"{SPAN[1]:g} Hz", 400
@@ -65,6 +66,16 @@ def grid(args):
         raise InputError("expected between 2 and 1e7 points", source="command line", field="--points",
                          value=args.points)
     return frequency_grid(fmin, fmax, args.points)
+
+
+def tuned(mission, text, option="--tune"):
+    """The mission with ``sequence.tune`` set to a tuning given as text, validated as a mission file's
+    would be (the band the sequence kind can reach); returns (mission, tuning in Hz). Every command
+    that takes a tuning goes through here, so that one tuning means one thing everywhere."""
+    value = frequency(text, option)
+    data = mission.model_dump(mode="python")
+    data["sequence"]["tune"] = f"{value!r} Hz"
+    return mission_from_dict(data, f"command line {option}"), value
 
 
 def quantity(text, unit, option, positive=True):

@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-from ..config.mission import load_mission, mission_from_dict
+from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..outputs.plotting import plot_budget
 from ..outputs.summary import describe_mission, summarise_budget
 from ..outputs.tables import budget_table
 from ..physics.species import SPECIES
-from .common import check_outputs, frequency, grid, grid_args, mission_arg, save_plot, save_table
+from .common import check_outputs, grid, grid_args, mission_arg, save_plot, save_table, tuned
 
 __all__ = ["add_commands"]
 
@@ -47,13 +47,7 @@ def cmd_curve(args):
 def cmd_window(args):
     mission, digest = _load(args)
     f = grid(args)
-    tune = frequency(args.tune, "--tune")
-    try:
-        mission = mission.clone(**{"sequence.tune": f"{tune!r} Hz"})
-    except Exception:
-        data = mission.model_dump(mode="python")
-        data["sequence"]["tune"] = f"{tune!r} Hz"
-        mission = mission_from_dict(data, "command line --tune")
+    mission, _ = tuned(mission, args.tune)
     check_outputs(args)
     budget = window(mission.design(), f)
     print(summarise_budget(budget, mission.name))

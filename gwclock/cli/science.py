@@ -19,7 +19,7 @@ from ..quantities import parse_frequency
 from ..studies import background as bg
 from ..studies.horizon import horizon
 from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
-from .common import check_outputs, grid, grid_args, mission_arg, number, quantity, save_plot, save_table
+from .common import check_outputs, grid, grid_args, mission_arg, number, quantity, save_plot, save_table, tuned
 
 __all__ = ["add_commands"]
 
@@ -140,7 +140,10 @@ def cmd_snr(args):
     sources = _source_from_args(args)
     refs = _references(args.against or [], _confusion(args))
     T = quantity(args.observation, "s", "--observation") if args.observation else mission.design().duration
-    tune = quantity(args.tune, "Hz", "--tune") if args.tune else None
+    if args.tune and args.schedule != "fixed":
+        raise InputError(f"--tune sets the fixed schedule's tuning; it has no meaning with --schedule {args.schedule}",
+                         source="command line", field="--tune", value=args.tune)
+    tune = tuned(mission, args.tune)[1] if args.tune else None
     cadence = quantity(args.cadence, "s", "--cadence")
     overhead = quantity(args.overhead, "s", "--overhead", positive=False)
     check_outputs(args)

@@ -2,7 +2,7 @@
 noise budget.
 
 Layers inside the package, each using only those above it: ``budget`` (the result type and the
-grid checks), ``evaluate`` (one evaluation of the master formula), ``optimum`` (the continuous
+grid checks), ``formula`` (one evaluation of the master formula), ``optimum`` (the continuous
 interrogation optimum), ``search`` (the best sequence at each tuning), ``curves`` (envelope and
 window), ``batch`` (many designs at once).
 """
@@ -12,7 +12,7 @@ from __future__ import annotations
 from .batch import batch_budget
 from .budget import Budget, frequency_grid
 from .curves import envelope, window, window_psd
-from .evaluate import evaluate, signal_response
+from .formula import evaluate, signal_response
 from .search import best_sequence, optimise
 
 __all__ = ["Budget", "envelope", "window", "window_psd", "evaluate", "optimise", "best_sequence",

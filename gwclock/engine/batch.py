@@ -16,7 +16,7 @@ from ..physics import noises
 from ..physics.design import Design
 from .budget import check_grid
 from .curves import envelope_parts
-from .evaluate import signal_response, total_psd
+from .formula import signal_response, total_psd
 
 __all__ = ["batch_budget"]
 

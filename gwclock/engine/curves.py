@@ -14,21 +14,18 @@ from ..physics import noises
 from ..physics.design import Design
 from ..physics.sequences import SEQUENCES
 from .budget import Budget, check_grid
-from .evaluate import signal_response, total_psd
-from .search import RAMSEY, best_of_kind, best_sequence
+from .formula import signal_response, total_psd
+from .search import RAMSEY, best_sequence
 
-__all__ = ["envelope", "window", "window_psd", "envelope_parts", "CHUNK"]
+__all__ = ["envelope", "window", "window_psd", "window_parts", "envelope_parts", "CHUNK"]
 
 #: Frequencies evaluated at once (bounds memory on large grids).
 CHUNK = 4096
 
 
-def _assemble(design, f, tuning, parts, mode, scale=None):
+def _assemble(design, f, tuning, parts, mode):
     Ry = signal_response(design, f)
-    psd = {}
-    for name in noises.NOISES:
-        value = parts[name] if scale is None else parts[name] * scale
-        psd[name] = value / Ry
+    psd = {name: parts[name] / Ry for name in noises.NOISES}
     total = sum(psd.values())
     return Budget(
         frequency=f, psd=psd, total=total, tuning=np.broadcast_to(tuning, f.shape).astype(float),
@@ -41,15 +38,62 @@ def _assemble(design, f, tuning, parts, mode, scale=None):
     )
 
 
+def window_parts(design: Design, tunings, frequency):
+    """Per-noise equivalent fractional-frequency PSD of fixed tunings at signal frequencies.
+
+    Each tuning f_k gets the sequence the envelope uses at f_k (:func:`~gwclock.engine.search.best_sequence`,
+    Ramsey fallback included: one meaning of "tuned to f_k" everywhere). With that sequence fixed,
+    the noise at signal frequency f is ``N(f) / |G(f)|^2``: the projection noise and the smooth
+    aliasing integral of a DD sequence do not depend on f (``N = S_y,eq(f_k) |G(f_k)|^2``); for
+    Ramsey the red-noise aliasing sum runs over the lattice f + m/Tc of the signal frequency
+    itself, so it is evaluated there. |G(f)|^2 is floored at 1e-24 |G(f_k)|^2, so that exact zeros
+    of the filter function show as a finite (very poor) sensitivity.
+
+    Returns
+    -------
+    (dict, dict)
+        Per noise an array of shape (K, P) in 1/Hz (fractional frequency), and the per-tuning
+        sequence (``pulses``, ``interrogation``, ...).
+    """
+    fk = np.atleast_1d(np.asarray(tunings, dtype=float))
+    f = np.asarray(frequency, dtype=float)
+    f = np.broadcast_to(f, (fk.size, f.shape[-1]))
+    best, ok = best_sequence(design, fk)
+    if not np.all(ok):
+        raise ValueError("some tunings cannot be reached by any sequence")
+    n = np.asarray(best["pulses"], dtype=float)[:, None]
+    T = np.asarray(best["interrogation"], dtype=float)[:, None]
+    Tc = np.asarray(best["cycle"], dtype=float)[:, None]
+    kind = SEQUENCES[design.kind]
+    ramsey = n[:, 0] == 0
+    G0 = np.empty(fk.size)
+    Gf = np.empty(f.shape)
+    for mask, k in ((ramsey, RAMSEY), (~ramsey, kind)):
+        if np.any(mask):
+            G0[mask] = k.modulus(design, fk[mask][:, None], n[mask], T[mask])[:, 0]
+            Gf[mask] = k.modulus(design, f[mask], n[mask], T[mask])
+    G0sq = G0[:, None] ** 2
+    inv = 1.0 / np.maximum(Gf**2, 1e-24 * G0sq)
+    parts = {}
+    stationary = noises.stationary_noises()
+    for name in noises.NOISES:
+        numerator = np.broadcast_to(np.asarray(best[name], dtype=float)[:, None] * G0sq, f.shape).copy()
+        if name in stationary and np.any(ramsey):
+            terms = stationary[name](design)
+            if terms:
+                numerator[ramsey] = RAMSEY.aliased(design, terms, f[ramsey], 0.0, T[ramsey], Tc[ramsey])
+        parts[name] = numerator * inv
+    return parts, best
+
+
 def window_psd(design: Design, tunings, frequency):
-    """Total strain PSD of many fixed tunings at once: ``S_n(f; f_k)``.
+    """Total strain PSD of many fixed tunings at once: ``S_n(f; f_k)`` (see :func:`window_parts`).
 
     Parameters
     ----------
     design : Design
     tunings : array_like, shape (K,)
-        Tuning frequencies in Hz (each gets the envelope's best sequence, Ramsey fallback
-        included).
+        Tuning frequencies in Hz.
     frequency : array_like, shape (K, P) or (P,)
         GW frequencies in Hz at which to evaluate each tuning's window.
 
@@ -59,25 +103,9 @@ def window_psd(design: Design, tunings, frequency):
         ``S_n`` of shape (K, P) in 1/Hz, and the per-tuning sequence (``pulses``,
         ``interrogation``, ...).
     """
-    fk = np.atleast_1d(np.asarray(tunings, dtype=float))
-    f = np.asarray(frequency, dtype=float)
-    f = np.broadcast_to(f, (fk.size, f.shape[-1]))
-    best, ok = best_sequence(design, fk)
-    if not np.all(ok):
-        raise ValueError("some tunings cannot be reached by any sequence")
-    sy = total_psd(best)
-    n = np.asarray(best["pulses"], dtype=float)[:, None]
-    T = np.asarray(best["interrogation"], dtype=float)[:, None]
-    kind = SEQUENCES[design.kind]
-    ramsey = n[:, 0] == 0
-    G0 = np.empty(fk.size)
-    Gf = np.empty(f.shape)
-    for mask, k in ((ramsey, RAMSEY), (~ramsey, kind)):
-        if np.any(mask):
-            G0[mask] = k.modulus(design, fk[mask][:, None], n[mask], T[mask])[:, 0]
-            Gf[mask] = k.modulus(design, f[mask], n[mask], T[mask])
-    scale = G0[:, None] ** 2 / np.maximum(Gf**2, 1e-24 * G0[:, None] ** 2)
-    return sy[:, None] * scale / signal_response(design, f), best
+    parts, best = window_parts(design, tunings, frequency)
+    f = np.broadcast_to(np.asarray(frequency, dtype=float), next(iter(parts.values())).shape)
+    return total_psd(parts) / signal_response(design, f), best
 
 
 def envelope(design: Design, frequency) -> Budget:
@@ -111,7 +139,8 @@ def envelope_parts(design, f):
 
 
 def window(design: Design, frequency, tune: float | None = None) -> Budget:
-    """Response at one fixed tuning: ``S_n(f; f0) = S_y,eq(f0) |G(f0)|^2 / (|G(f)|^2 R_y(f))``.
+    """Response at one fixed tuning: ``S_n(f; f0) = N(f) / (|G(f)|^2 R_y(f))`` for the sequence the
+    envelope uses at f0 (see :func:`window_parts`); at f = f0 it equals the envelope.
 
     Parameters
     ----------
@@ -124,21 +153,15 @@ def window(design: Design, frequency, tune: float | None = None) -> Budget:
     Returns
     -------
     Budget
-        With ``mode == "window"``. |G(f)|^2 is floored at 1e-24 |G(f0)|^2 so that the exact
-        zeros of the filter function show as a finite (very poor) sensitivity.
+        With ``mode == "window"``.
     """
     f = check_grid(frequency)
     f0 = design.tune if tune is None else float(tune)
     if f0 is None:
         raise ValueError("a window needs a tuning frequency")
-    kind = SEQUENCES[design.kind]
-    best, ok = best_of_kind(design, kind, np.array([f0]))
-    if not ok[0]:
-        raise ValueError(f"no {design.kind} sequence can be tuned to {f0:g} Hz within max_interrogation "
-                         "and the pi-pulse duration")
-    n, T = float(best["pulses"][0]), float(best["interrogation"][0])
-    G0 = kind.modulus(design, np.array([f0]), n, T)[0]
-    Gf = kind.modulus(design, f, n, T)
-    scale = G0**2 / np.maximum(Gf**2, 1e-24 * G0**2)
-    parts = {k: v[0] for k, v in best.items()}
-    return _assemble(design, f, f0, parts, "window", scale)
+    try:
+        parts, best = window_parts(design, [f0], f)
+    except ValueError:
+        raise ValueError(f"no sequence can be tuned to {f0:g} Hz within max_interrogation and the pi-pulse duration") from None
+    seq = {k: np.asarray(v)[0] for k, v in best.items()}
+    return _assemble(design, f, f0, {**seq, **{k: v[0] for k, v in parts.items()}}, "window")

@@ -14,7 +14,7 @@ from ..physics import filters, noises, projection
 from ..physics.design import Design
 from ..physics.filters import finite_pulse_factor
 from ..physics.sequences import SEQUENCES, Ramsey, closed_form_red, optimal_interrogation
-from .evaluate import evaluate, linear_noise, pick, projection_term, total_psd
+from .formula import evaluate, linear_noise, pick, projection_term, total_psd
 from .optimum import continuous_optimum
 
 __all__ = ["optimise", "best_of_kind", "best_sequence", "RAMSEY"]

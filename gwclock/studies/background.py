@@ -3,12 +3,12 @@
 Energy density and strain PSD: ``Omega_gw(f) = 2 pi^2 f^3 S_h(f) / (3 H0^2)`` with S_h the
 one-sided PSD of the GW field summed over polarisations (Thrane & Romano 2013). With the
 sky-averaged S_n of Robson, Cornish & Liu, the noise in Omega units is
-``Omega_n = 4 pi^2 f^3 S_n / (3 H0^2)`` (PHYSICS.md sec. 10: the single-detector effective noise
+``Omega_n = 4 pi^2 f^3 S_n / (3 H0^2)`` (Thrane & Romano 2013: the single-detector effective noise
 is P_n / Gamma = 2 S_n). H0 is astropy's Planck18 value.
 
 Broadband references use the single-detector known-noise power-law integrated curve
 ``Omega_beta = rho / sqrt(T integral (f/f_ref)^(2 beta) / Omega_n^2 df)``. The clock mission is a
-narrow-band detector and is computed per cycle (PHYSICS.md sec. 10): at tuning i with N_i cycles
+narrow-band detector and is computed per cycle (after Thrane & Romano 2013): at tuning i with N_i cycles
 the known-noise SNR is ``sqrt(N_i/2) sigma_s^2 / sigma_n^2``; the time is shared evenly among
 the tunings of a scan (the time-sharing assumption, stated in every output). A single link is one
 detector: it needs a noise model, or a second independent link to cross-correlate.
@@ -23,7 +23,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..engine import best_sequence
-from ..engine.evaluate import total_psd
+from ..engine.formula import total_psd
 from ..physics import response
 from ..physics.sequences import SEQUENCES
 

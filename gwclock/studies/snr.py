@@ -1,7 +1,7 @@
 """Signal-to-noise ratio of slowly evolving sources, one engine for broadband and tuned detectors.
 
 For a source whose frequency f(t) evolves slowly, ``SNR^2 = integral h0(t)^2 / S_n(f(t); tuning(t)) dt``
-with the rms amplitude h0 and the sky-averaged S_n of PHYSICS.md sec. 0. For a broadband detector
+with the rms amplitude h0 and the sky-averaged S_n (Robson, Cornish & Liu 2019). For a broadband detector
 S_n does not depend on the tuning and, with dt = df / (df/dt), this is the familiar
 ``integral 4 |h~(f)|^2 / S_n(f) df``. For the clock detector three schedules are offered:
 
@@ -9,11 +9,15 @@ S_n does not depend on the tuning and, with dt = df / (df/dt), this is the famil
 * ``track``: the DD frequency retuned every ``cadence`` to the source's frequency at the middle of
   the interval, losing ``overhead`` per retuning; between retunings the source drifts through the
   fixed window;
-* ``best``: the observing time (possibly in several pieces) placed where the tracked SNR rate is
-  highest, over the inspiral up to merger.
+* ``best``: the best of three plans: the observing time (possibly in several pieces) placed where
+  the tracked SNR rate is highest over the inspiral up to merger, the best fixed tuning, and
+  tracking over the last stretch (so ``best`` is never below ``fixed`` or ``track``).
+
+A tuning always means the sequence the tuned envelope uses there (Ramsey where no DD sequence fits
+or Ramsey does better), in every schedule, window, scan and background.
 
 The per-cycle picture needs the source to be nearly monochromatic within one interrogation,
-``(df/dt) T^2 <= 1`` (PHYSICS.md sec. 3); time when that fails (chirped pulse timing would be
+``(df/dt) T^2 <= 1`` (common practice, no source); time when that fails (chirped pulse timing would be
 needed) is left out of the clock SNR and reported.
 
 References
@@ -168,7 +172,14 @@ def clock_snr(curve: TunedCurve, source, schedule="track", observation=None, tun
         return SNRResult(label, source.name, schedule, float(source.h0 * np.sqrt(T_obs / s[0, 0])),
                          source.frequency, source.frequency, T_obs, f"tuned to {f0:.6g} Hz")
     if schedule == "best":
-        return _best_schedule(curve, source, T_obs, label)
+        # the best of the three plans: time placed where the tracked rate is highest, the best fixed
+        # tuning over the last stretch, and tracking over the last stretch
+        plans = [_best_schedule(curve, source, T_obs, label),
+                 clock_snr(curve, source, "fixed", T_obs, None, cadence, overhead, name),
+                 clock_snr(curve, source, "track", T_obs, None, cadence, overhead, name)]
+        top = max(plans, key=lambda r: r.snr)
+        return SNRResult(label, source.name, "best", top.snr, top.f_start, top.f_end, top.observed,
+                         top.note if top is plans[0] else f"{top.schedule} plan is the best: {top.note}")
     tau_start, tau_end = _span(source, curve.band, T_obs)
     if tau_start <= tau_end:
         return SNRResult(label, source.name, schedule, 0.0, np.nan, np.nan, 0.0, "not in band")
