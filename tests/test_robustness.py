@@ -199,7 +199,7 @@ def test_continuous_interrogation_optimum_is_the_minimum(dead, tau, log_a, log_b
 
 @settings(max_examples=40, deadline=None)
 @given(designs, st.floats(0, 0.3))
-def test_pruned_ramsey_search_equals_the_exhaustive_one(d, gain):
+def test_pruned_ramsey_search_equals_the_candidate_search(d, gain):
     # the engine skips Ramsey candidates whose lower bounds already lose; evaluating every
     # candidate with the full aliasing sum must pick the same total (a gain mismatch makes the
     # laser flicker term need the explicit harmonic sum)
@@ -209,9 +209,25 @@ def test_pruned_ramsey_search_equals_the_exhaustive_one(d, gain):
     R = engine.SEQUENCES["ramsey"]
     n, T, valid = engine._safe(d, R, f, *R.snap(d, f, engine._ramsey_wishes(d, f)))
     everything = np.where(valid, engine.total_psd(engine.evaluate(d, R, f, n, T)), np.inf).min(axis=0)
-    best, ok = engine.best_of_kind(d, R, f)
-    assert np.array_equal(ok, np.isfinite(everything))
+    best, _ = engine._best_ramsey(d, R, f, refine=False)
+    ok = np.isfinite(everything)
     np.testing.assert_allclose(engine.total_psd(best)[ok], everything[ok], rtol=1e-12, atol=0)
+    # and the polished result never loses to a candidate
+    polished, _ = engine.best_of_kind(d, R, f)
+    assert np.all(engine.total_psd(polished)[ok] <= everything[ok] * (1 + 1e-12))
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs, st.lists(st.floats(-4, 2), min_size=1, max_size=4, unique=True))
+def test_the_envelope_is_the_minimum_over_every_allowed_sequence(d, log_f):
+    # brute force (tests/exhaustive.py): every allowed pulse count at T = n/(2f), and Ramsey at a dense
+    # grid below its first lobe maximum, every lobe maximum beyond, and the shortest interrogation
+    from gwclock.engine import signal_response
+
+    from .exhaustive import brute
+    f = np.unique(np.round(10.0 ** np.array(log_f), 9))
+    sy = envelope(d, f).total * signal_response(d, f)
+    assert np.all(sy <= brute(d, f) * (1 + 1e-6))
 
 
 # one meaning of "tuned to f0" ------------------------------------------------------------------
