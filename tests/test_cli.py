@@ -293,3 +293,19 @@ class TestEntryPoint:
         main(["--cite"])
         with pytest.raises(KeyboardInterrupt):
             signal.getsignal(signal.SIGTERM)(signal.SIGTERM, None)
+
+
+def test_a_reference_curve_is_exported_inside_its_valid_band_only(tmp_path, capsys):
+    # a published fit holds in its stated band (Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2:
+    # the aLIGO fit above 10 Hz; Yagi & Seto 2011 for DECIGO from 1 mHz): the default grid is the band
+    from astropy.table import QTable
+
+    from gwclock.astro.references import get_reference
+    for name in ("aligo", "decigo"):
+        out = tmp_path / f"{name}.ecsv"
+        assert run(["reference", name, "--table", out], capsys)[0] == 0
+        f = QTable.read(out)["frequency"].to_value("Hz")
+        lo, hi = get_reference(name).band
+        assert f[0] == pytest.approx(lo, rel=1e-12, abs=0) and f[-1] == pytest.approx(hi, rel=1e-12, abs=0)
+    code, _, err = run(["reference", "aligo", "--fmin", "1e-5 Hz"], capsys)
+    assert code == 2 and "holds from 10 Hz" in err

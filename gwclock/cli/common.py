@@ -37,9 +37,12 @@ def mission_arg(sp):
     sp.add_argument("mission", nargs="?", default=None, help="mission file (TOML); the built-in default when omitted")
 
 
-def grid_args(sp):
-    sp.add_argument("--fmin", default=DEFAULT_FMIN, help=f"lowest frequency (default {DEFAULT_FMIN})")
-    sp.add_argument("--fmax", default=DEFAULT_FMAX, help=f"highest frequency (default {DEFAULT_FMAX})")
+def grid_args(sp, span_help=None):
+    """``--fmin``, ``--fmax``, ``--points``, ``--table`` and ``--plot``; with ``span_help`` the ends
+    default to None (the command chooses them, e.g. a detector's valid band) and say so."""
+    lo, hi = (None, None) if span_help else (DEFAULT_FMIN, DEFAULT_FMAX)
+    sp.add_argument("--fmin", default=lo, help=f"lowest frequency (default {span_help or DEFAULT_FMIN})")
+    sp.add_argument("--fmax", default=hi, help=f"highest frequency (default {span_help or DEFAULT_FMAX})")
     sp.add_argument("--points", type=int, default=DEFAULT_POINTS, help="grid points, log-spaced (default 400)")
     sp.add_argument("--table", help="write the table here (.ecsv or .csv)")
     sp.add_argument("--plot", help="write the figure here (.png, .pdf or .svg)")

@@ -87,7 +87,13 @@ def cmd_references(args):
 
 def cmd_reference(args):
     (ref, opts), = _references([args.name], _confusion(args))
+    # a published fit holds in its band only: the grid defaults to it and may not leave it
+    args.fmin = args.fmin or f"{ref.band[0]!r} Hz"
+    args.fmax = args.fmax or f"{ref.band[1]!r} Hz"
     f = grid(args)
+    if f[0] < ref.band[0] * (1 - 1e-12) or f[-1] > ref.band[1] * (1 + 1e-12):
+        raise InputError(f"the {ref.label} curve holds from {ref.band[0]:g} Hz to {ref.band[1]:g} Hz only; "
+                         "choose --fmin and --fmax inside that band", source="command line", field="--fmin/--fmax")
     check_outputs(args)
     if args.convention == "native":
         psd, conv = ref.native(f, **opts), ref.convention
@@ -285,7 +291,7 @@ def add_commands(sub):
     sp.add_argument("--convention", choices=("native", "sky-averaged"), default="native",
                     help="as published (default) or converted to the sky average")
     sp.add_argument("--confusion", help="LISA galactic confusion for 0.5, 1, 2 or 4 years (default: off)")
-    grid_args(sp)
+    grid_args(sp, span_help="the detector's valid band")
     sp.set_defaults(func=cmd_reference)
 
     def source_args(sp):
