@@ -20,7 +20,7 @@ from .search import RAMSEY, best_sequence
 __all__ = ["envelope", "window", "window_psd", "window_parts", "envelope_parts", "CHUNK"]
 
 #: Frequencies evaluated at once (bounds memory on large grids).
-CHUNK = 4096
+CHUNK = 32768
 
 
 def _assemble(design, f, tuning, parts, mode):

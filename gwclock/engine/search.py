@@ -136,43 +136,60 @@ def best_of_kind(design, kind, f0):
     return best, ok
 
 
+def _integer_descent(x, lo, hi, jump, unit, active, attempt):
+    """Minimise over a lattice ``x in [lo, hi]`` (spacing ``unit``) at every active point at once:
+    try x +- jump, move where ``attempt(idx, candidates)`` reports an improvement (it keeps the
+    winners itself and returns the improved mask), halve the jump where neither side improves,
+    stop below one unit or after ``_DESCENT_STEPS`` rounds."""
+    for _ in range(_DESCENT_STEPS):
+        if not np.any(active):
+            break
+        moved = np.zeros(x.shape, dtype=bool)
+        for sign in (1.0, -1.0):
+            cand = x + sign * jump
+            idx = np.flatnonzero(active & ~moved & (cand >= lo) & (cand <= hi))
+            if idx.size == 0:
+                continue
+            win = idx[attempt(idx, cand[idx])]
+            x[win] = cand[win]
+            moved[win] = True
+        jump = np.where(moved, jump, np.floor(jump / (2 * unit)) * unit)
+        active = active & (jump >= unit)
+    return x
+
+
 def _descend(design, kind, f0, linear, best, ok):
-    """Discrete descent over the pulse count from the best candidate: try n +- jump, move while
-    either is better, halve the jump when neither is, stop below one step. The analytic optimum
-    uses a fixed read-out penalty and a smooth model of the noise integrals, so the best count
-    can lie a few steps away; the descent finds the local minimum of the exact budget."""
+    """Discrete descent over the pulse count from the best candidate. The analytic optimum uses a
+    fixed read-out penalty and a smooth model of the noise integrals, so the best count can lie a
+    few steps away; the descent finds the local minimum of the exact budget."""
     step = float(kind.step)
     n_min = float(kind.min_pulses())
     n_max = np.floor(2 * f0 * design.max_interrogation * (1 + 1e-12) / step) * step
     n = np.asarray(best["pulses"], dtype=float).copy()
     score = np.where(ok, total_psd(best), np.inf)
     best = {k: np.array(np.broadcast_to(v, f0.shape)) for k, v in best.items()}
+
+    def attempt(idx, cand):
+        lin = None if linear is None else {k: tuple(np.asarray(c)[idx] if np.ndim(c) else c for c in v)
+                                           for k, v in linear.items()}
+        trial = evaluate(design.take(idx, f0.size), kind, f0[idx], cand, cand / (2 * f0[idx]), lin)
+        return _keep_better(best, score, idx, trial)
+
     jump = np.maximum(np.round(0.04 * n / step), 1.0) * step
-    active = ok & (n_max > n_min)
-    for _ in range(_DESCENT_STEPS):
-        if not np.any(active):
-            break
-        moved = np.zeros(f0.shape, dtype=bool)
-        for sign in (1.0, -1.0):
-            cand = n + sign * jump
-            allowed = active & ~moved & (cand >= n_min) & (cand <= n_max)
-            if not np.any(allowed):
-                continue
-            idx = np.flatnonzero(allowed)
-            sub = design.take(idx, f0.size)
-            lin = None if linear is None else {k: tuple(np.asarray(c)[idx] if np.ndim(c) else c for c in v)
-                                               for k, v in linear.items()}
-            trial = evaluate(sub, kind, f0[idx], cand[idx], cand[idx] / (2 * f0[idx]), lin)
-            t_score = total_psd(trial)
-            better = t_score < score[idx]
-            win = idx[better]
-            n[win], score[win] = cand[win], t_score[better]
-            for k in best:
-                best[k][win] = np.asarray(np.broadcast_to(trial[k], idx.shape))[better]
-            moved[win] = True
-        jump = np.where(moved, jump, np.floor(jump / (2 * step)) * step)
-        active = active & (jump >= step)
+    _integer_descent(n, n_min, n_max, jump, step, ok & (n_max > n_min), attempt)
     return best
+
+
+def _keep_better(best, score, idx, trial):
+    """Put the trial's parts into ``best`` where its total beats ``score`` (both updated in place);
+    returns the improved mask over ``idx``."""
+    t_score = total_psd(trial)
+    better = t_score < score[idx]
+    win = idx[better]
+    score[win] = t_score[better]
+    for k in best:
+        best[k][win] = np.asarray(np.broadcast_to(trial[k], idx.shape))[better]
+    return better
 
 
 def _safe(design, kind, f0, n, T, valid):
@@ -214,12 +231,8 @@ def _refine_ramsey(design, f0, best, ok):
         parts = evaluate(sub, RAMSEY, f0[idx], np.zeros(idx.size), T)
         return parts, total_psd(parts)
 
-    def keep(idx, parts, t_score):
-        better = t_score < score[idx]
-        win = idx[better]
-        score[win] = t_score[better]
-        for k in best:
-            best[k][win] = np.asarray(np.broadcast_to(parts[k], idx.shape))[better]
+    def keep(idx, parts, _total=None):
+        _keep_better(best, score, idx, parts)
 
     smooth = ok & (f0 * T0 <= 0.5 * (1 + 1e-9))
     idx = np.flatnonzero(smooth)
@@ -253,26 +266,12 @@ def _refine_ramsey(design, f0, best, ok):
         k = np.round(f0 * T0 - 0.5)
         k_max = np.floor(f0 * hi_T - 0.5)
         k_min = np.maximum(np.ceil(f0 * lo_T - 0.5), 0.0)  # no lobe maximum shorter than two pi pulses
+
+        def attempt(idx, cand):
+            return _keep_better(best, score, idx, trial(idx, (cand + 0.5) / f0[idx])[0])
+
         jump = np.maximum(np.round(0.04 * k), 1.0)
-        active = lobed & (k_max > k_min)
-        for _ in range(_DESCENT_STEPS):
-            if not np.any(active):
-                break
-            moved = np.zeros(f0.shape, dtype=bool)
-            for sign in (1.0, -1.0):
-                cand = k + sign * jump
-                allowed = active & ~moved & (cand >= k_min) & (cand <= k_max)
-                idx = np.flatnonzero(allowed)
-                if idx.size == 0:
-                    continue
-                before = score[idx].copy()
-                parts, t_score = trial(idx, (cand[idx] + 0.5) / f0[idx])
-                keep(idx, parts, t_score)
-                win = idx[t_score < before]
-                k[win] = cand[win]
-                moved[win] = True
-            jump = np.where(moved, jump, np.floor(jump / 2))
-            active = active & (jump >= 1)
+        _integer_descent(k, k_min, k_max, jump, 1.0, lobed & (k_max > k_min), attempt)
     return best
 
 
