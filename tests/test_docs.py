@@ -33,3 +33,15 @@ def test_the_api_page_lists_every_library_module():
     wanted = {m for m in import_graph.modules() if not m.startswith(public_api.SKIP) and not m.startswith("gwclock.cli")
               and not m.endswith(("astro", "config", "studies", "outputs"))}
     assert wanted - documented == set()
+
+
+def test_the_readme_library_example_runs(monkeypatch):
+    readme = (DOCS.parent / "README.md").read_text()
+    section = readme[readme.index("### Library use"):]
+    code = section[section.index("```python") + len("```python"):]
+    code = code[:code.index("```")]
+    monkeypatch.chdir(DOCS.parent)
+    namespace = {}
+    exec(compile(code, "README.md", "exec"), namespace)  # noqa: S102 - our own documentation
+    budget = namespace["budget"]
+    assert budget.asd.shape == (500,) and namespace["variant"].clock.atom_number == 1e6

@@ -20,7 +20,7 @@ from ..outputs.tables import write_table
 from ..quantities import parse_frequency, parse_quantity
 from ..version import __version__
 
-__all__ = ["Parser", "mission_arg", "grid_args", "frequency", "grid", "tuned", "quantity", "number", "check_outputs",
+__all__ = ["Parser", "mission_arg", "grid_args", "output_args", "frequency", "grid", "tuned", "quantity", "number", "check_outputs",
            "save_table", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]
 
 DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = f"{SPAN[0]:g} Hz", f"{SPAN[1]:g} Hz", 400
@@ -44,8 +44,14 @@ def grid_args(sp, span_help=None):
     sp.add_argument("--fmin", default=lo, help=f"lowest frequency (default {span_help or DEFAULT_FMIN})")
     sp.add_argument("--fmax", default=hi, help=f"highest frequency (default {span_help or DEFAULT_FMAX})")
     sp.add_argument("--points", type=int, default=DEFAULT_POINTS, help="grid points, log-spaced (default 400)")
+    output_args(sp)
+
+
+def output_args(sp, plot=True):
+    """``--table`` (and ``--plot``): where to write the result."""
     sp.add_argument("--table", help="write the table here (.ecsv or .csv)")
-    sp.add_argument("--plot", help="write the figure here (.png, .pdf or .svg)")
+    if plot:
+        sp.add_argument("--plot", help="write the figure here (.png, .pdf or .svg)")
 
 
 def frequency(text, option):

@@ -19,7 +19,7 @@ from ..quantities import parse_frequency
 from ..studies import background as bg
 from ..studies.horizon import horizon
 from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
-from .common import check_outputs, grid, grid_args, mission_arg, number, quantity, save_plot, save_table, tuned
+from .common import check_outputs, grid, grid_args, mission_arg, number, output_args, quantity, save_plot, save_table, tuned
 
 __all__ = ["add_commands"]
 
@@ -312,8 +312,7 @@ def add_commands(sub):
     sp.add_argument("--fmin", default="1e-5 Hz")
     sp.add_argument("--fmax", default="1e4 Hz")
     sp.add_argument("--points", type=int, default=300)
-    sp.add_argument("--table")
-    sp.add_argument("--plot")
+    output_args(sp)
     sp.set_defaults(func=cmd_track)
 
     sp = sub.add_parser("snr", help="SNR of sources in the mission and in reference detectors")
@@ -325,7 +324,7 @@ def add_commands(sub):
     sp.add_argument("--overhead", default="0 s", help="time lost per retuning (schedule track)")
     sp.add_argument("--observation", help="observing time (default: the mission's duration)")
     against_args(sp, "reference detectors or curve files")
-    sp.add_argument("--table")
+    output_args(sp, plot=False)
     sp.set_defaults(func=cmd_snr)
 
     sp = sub.add_parser("horizon", help="redshift and distance reached at an SNR, versus total mass")
@@ -334,8 +333,7 @@ def add_commands(sub):
     sp.add_argument("--masses", nargs="+", help="source-frame total masses (solar masses)")
     schedule_arg(sp)
     against_args(sp, f"references (default: {' '.join(DEFAULT_COMPARISON)})")
-    sp.add_argument("--table")
-    sp.add_argument("--plot")
+    output_args(sp)
     sp.set_defaults(func=cmd_horizon)
 
     sp = sub.add_parser("background", help="stochastic-background sensitivity (Omega_gw)")

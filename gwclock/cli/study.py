@@ -16,7 +16,7 @@ from ..outputs.tables import Column, provenance
 from ..quantities import parse_quantity
 from ..studies.executor import run_sweep
 from ..studies.sweep import failure_reason, field_unit, field_value, parse_metric, parse_perturb, parse_vary, require
-from .common import check_outputs, frequency, grid, grid_args, mission_arg, save_plot, save_table
+from .common import check_outputs, frequency, grid, grid_args, mission_arg, output_args, save_plot, save_table
 
 __all__ = ["add_commands"]
 
@@ -154,8 +154,7 @@ def add_commands(sub):
     sp.add_argument("--perturb", action="append", help="FIELD=REL_SIGMA: Monte-Carlo band (repeatable)")
     sp.add_argument("--samples", type=int, default=200, help="Monte-Carlo samples per point (default 200)")
     sp.add_argument("--seed", type=int, default=12345, help="random seed (default 12345)")
-    sp.add_argument("--table")
-    sp.add_argument("--plot")
+    output_args(sp)
     exec_args(sp)
     sp.set_defaults(func=cmd_sweep)
 
