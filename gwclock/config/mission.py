@@ -233,7 +233,8 @@ class Mission(_Section):
         )
 
     def clone(self, **changes: Any) -> Mission:
-        """A new mission with dotted-field changes (``{"clock.atom_number": 1e6}``), re-validated."""
+        """A new mission with dotted-field changes (``{"clock.atom_number": 1e6}``), re-validated;
+        an invalid change raises :class:`~gwclock.errors.InputError` naming the field."""
         data = self.model_dump(mode="python")
         for dotted, value in changes.items():
             node = data
@@ -241,7 +242,10 @@ class Mission(_Section):
             for p in parents:
                 node = node[p]
             node[leaf] = value
-        return Mission.model_validate(data)
+        try:
+            return Mission.model_validate(data)
+        except ValidationError as exc:  # the library's one error type, not pydantic's
+            raise validation_error(exc, None) from None
 
 
 # loading -------------------------------------------------------------------------------------

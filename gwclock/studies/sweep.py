@@ -139,7 +139,7 @@ def point(mission, axes, combo):
     changes = {a.field: a.texts[i] for a, i in zip(axes, combo)}
     try:
         return combo, mission.clone(**changes), ""
-    except Exception as exc:  # a pydantic ValidationError: reported in the row
+    except InputError as exc:  # an invalid combination: reported in the row
         return combo, None, failure_reason(exc)
 
 
