@@ -21,7 +21,7 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationEr
 from ..errors import InputError
 from ..files import read_toml
 from ..physics.design import Design
-from ..physics.sequences import KINDS
+from ..physics.sequences import KINDS, SEQUENCES
 from ..physics.species import SPECIES
 from ..quantities import parse_quantity
 
@@ -172,10 +172,9 @@ class Mission(_Section):
             raise ValueError("sequence.max_interrogation must be longer than two pi pulses (clock.pi_pulse_duration)")
         if self.sequence.tune != "auto":
             f0 = self.sequence.tune.to_value(u.Hz)
-            if self.sequence.kind != "ramsey" and self.sequence.kind != "custom":
-                lo, hi = 1 / (2 * tmax), 1 / (2 * tpi)
-                if self.sequence.kind == "xy8":
-                    lo = 8 / (2 * tmax)
+            kind = SEQUENCES[self.sequence.kind]
+            if kind.dd and hasattr(kind, "min_pulses"):  # CPMG-timed kinds: T = n / (2 f0)
+                lo, hi = kind.min_pulses() / (2 * tmax), 1 / (2 * tpi)
                 if not (lo <= f0 < hi):
                     raise ValueError(
                         f"sequence.tune {f0:g} Hz is outside the band the sequence can reach "
