@@ -174,7 +174,8 @@ def test_snr_horizon_background_commands(tmp_path, capsys):
 
 def test_study_commands_against_independent_values(tmp_path, capsys):
     # snr: a monochromatic source in LISA, SNR = h0 sqrt(T / S_n) (Robson, Cornish & Liu 2019,
-    # eqs. 10-13 for S_n); horizon: LISA's SNR at the printed redshift is the threshold;
+    # eqs. 10-13 for S_n) over LISA's own observing time (4 yr), whatever the clock's --observation;
+    # horizon: LISA's SNR at the printed redshift is the threshold;
     # background: Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) with Planck18's H0 (Thrane & Romano 2013)
     from astropy.cosmology import Planck18
 
@@ -186,11 +187,12 @@ def test_study_commands_against_independent_values(tmp_path, capsys):
                 "--observation", "1 yr"], capsys)[0] == 0
     t = QTable.read(tmp_path / "s.ecsv")
     lisa_row = [r for r in t if r["detector"] == "LISA"][0]
-    assert float(lisa_row["snr"]) == pytest.approx(1e-21 * np.sqrt(T / lisa_psd(3e-3)), rel=1e-9, abs=0)
+    assert float(lisa_row["snr"]) == pytest.approx(1e-21 * np.sqrt(4 * T / lisa_psd(3e-3)), rel=1e-9, abs=0)
+    assert float(lisa_row["observed"].to_value("s")) == pytest.approx(4 * T, rel=1e-12, abs=0)
     assert run(["horizon", "--masses", "2e5", "--against", "lisa", "--table", tmp_path / "h.ecsv"], capsys)[0] == 0
     z = float(QTable.read(tmp_path / "h.ecsv")["z_lisa"][0])
     src = Inspiral.from_masses(1e5, 1e5, redshift=z)
-    assert reference_snr(get_reference("lisa"), src, T).snr == pytest.approx(8.0, rel=1e-4, abs=0)
+    assert reference_snr(get_reference("lisa"), src, 4 * T).snr == pytest.approx(8.0, rel=1e-4, abs=0)
     assert run(["background", "--points", 40, "--table", tmp_path / "b.ecsv", "--plot", tmp_path / "b.png"],
                capsys)[0] == 0
     b = QTable.read(tmp_path / "b.ecsv")
@@ -287,6 +289,15 @@ class TestEntryPoint:
         monkeypatch.setattr(design, "cmd_check", interrupted)
         code, _, err = run(["check"], capsys)
         assert code == 130 and "interrupted" in err
+
+    def test_a_closed_pipe_ends_the_run_quietly(self, capsys, monkeypatch):
+        from gwclock.cli import design
+
+        def closed(args):
+            raise BrokenPipeError
+        monkeypatch.setattr(design, "cmd_check", closed)
+        code, _, err = run(["check"], capsys)
+        assert (code, err) == (0, "")
 
     def test_sigterm_becomes_an_interruption(self):
         import signal

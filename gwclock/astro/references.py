@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 from astropy.table import Table
 
+from ..constants import YEAR
 from ..errors import InputError
 from ..files import register_input
 
@@ -110,6 +111,11 @@ class Reference:
         Keyword options ``psd`` accepts (``confusion_years`` for LISA's galactic foreground).
     compared : bool
         Whether the curve is in the default comparison set of figures, horizons and reports.
+    observation : float
+        The detector's own observing time in s, used for its SNRs, horizons and background curves
+        (not the clock mission's).
+    observation_source : str
+        Where that time comes from.
     """
 
     key: str
@@ -123,6 +129,8 @@ class Reference:
     checked: bool = True
     options: tuple = ()
     compared: bool = True
+    observation: float = YEAR
+    observation_source: str = "one year of data (common practice, no source)"
 
     def options_for(self, confusion_years=None) -> dict:
         """The keyword options to pass for a requested galactic confusion (only where accepted)."""
@@ -144,7 +152,9 @@ REFERENCES = {
         "lisa", "LISA", lisa_psd, SKY, 1.0, (1e-5, 1.0),
         "Robson, Cornish & Liu 2019, Class. Quantum Grav. 36, 105011, eqs. 10-14 and Table 1 (L = 2.5 Gm, f* = 19.09 mHz)",
         "galactic confusion for 0.5, 1, 2 or 4 yr on request", checked=False,
-        options=("confusion_years",)),
+        options=("confusion_years",), observation=4 * YEAR,
+        observation_source="four years, the nominal science operations of Amaro-Seoane et al. 2017, "
+                           "arXiv:1702.00786 (from memory)"),
     "aligo": Reference(
         "aligo", "Advanced LIGO (design fit)", aligo_psd, OPTIMAL, 5 / 2, (10.0, 1e4),
         "Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2 (analytic fit of the design curve)",

@@ -6,6 +6,8 @@ one line on stderr and exit code 2 (``--debug`` shows the traceback).
 
 from __future__ import annotations
 
+import io
+import os
 import signal
 import sys
 import threading
@@ -88,4 +90,10 @@ def main(argv=None) -> int:
     except KeyboardInterrupt:
         print("gwclock: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # the reader closed the pipe (``| head``): stop quietly
+        try:  # point stdout at /dev/null so that flushing it at exit does not fail again
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        except (OSError, ValueError, AttributeError, io.UnsupportedOperation):
+            pass
+        return 0
 

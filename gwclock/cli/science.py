@@ -160,7 +160,8 @@ def cmd_snr(args):
         except ValueError as exc:
             raise InputError(str(exc), source="command line") from None
         for ref, opts in refs:
-            rows.append(reference_snr(ref, src, T, opts))
+            rows.append(reference_snr(ref, src, None, opts))
+    _say_observing_times(mission, T, refs)
     print(f"{'detector':32s} {'source':30s} {'schedule':9s} {'SNR':>10s}  band observed")
     for r in rows:
         band = f"{r.f_start:.3g}-{r.f_end:.3g} Hz" if np.isfinite(r.f_start) else "-"
@@ -180,10 +181,11 @@ def cmd_horizon(args):
     check_outputs(args)
     detectors = [(mission.name, lambda s: clock_snr(curve, s, args.schedule, T).snr)]
     for ref, opts in refs:
-        detectors.append((ref.label, lambda s, ref=ref, opts=opts: reference_snr(ref, s, T, opts).snr))
+        detectors.append((ref.label, lambda s, ref=ref, opts=opts: reference_snr(ref, s, None, opts).snr))
     t = Table()
     t["total_mass"] = Column(masses, unit="solMass")
     print(f"horizon at SNR {thr:g} (equal masses, Planck18; clock schedule '{args.schedule}')")
+    _say_observing_times(mission, T, refs)
     series = []
     for label, fn in detectors:
         zs, ds = zip(*[horizon(fn, m, thr) for m in masses])
@@ -194,6 +196,7 @@ def cmd_horizon(args):
         series.append((label, np.array(masses), np.array(zs)))
     t.meta.update(provenance(mission.name, digest))
     t.meta.update(snr_threshold=thr, observation_s=T, clock_schedule=args.schedule,
+                  reference_observation_s={r.key: r.observation for r, _ in refs},
                   note="0 means below threshold at any distance; inf means beyond z = 1000")
     if args.table:
         save_table(t, args.table)
@@ -232,7 +235,7 @@ def cmd_background(args):
         t[f"omega_n_{key}"] = Column(bg.omega_noise(f, sn, h0))
         inband = (f >= ref.band[0]) & (f <= ref.band[1])
         if inband.sum() >= 2:
-            pif = bg.power_law_integrated(f[inband], sn[inband], T, thr, h0=h0)
+            pif = bg.power_law_integrated(f[inband], sn[inband], ref.observation, thr, h0=h0)
             t[f"omega_pi_{key}"] = Column(_extend(f, pif, inband))
             series.append((f"{ref.label}: power-law integrated", f[inband], pif))
     t.meta.update(provenance(mission.name, digest))
@@ -249,6 +252,13 @@ def cmd_background(args):
         save_plot(args.plot, lambda ax: plot_lines(series, ax=ax, ylabel=r"$\Omega_{\rm gw}$ (power-law integrated)"),
                 f"{mission.name}: stochastic background sensitivity")
     return 0
+
+
+def _say_observing_times(mission, T, refs):
+    """Each detector observes for its own time: say which."""
+    print(f"observing time: {mission.name} {T / YEAR:.3g} yr")
+    for r, _ in refs:
+        print(f"  {r.label}: {r.observation / YEAR:.3g} yr, {r.observation_source}")
 
 
 def _extend(f, values, mask):

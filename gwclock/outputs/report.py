@@ -121,7 +121,7 @@ def build_report(mission, digest, out_dir):
     for src in _sources():
         row = [src.name, clock_snr(curve, src, "track").snr]
         for k in DEFAULT_COMPARISON:
-            row.append(reference_snr(get_reference(k), src, design.duration).snr)
+            row.append(reference_snr(get_reference(k), src).snr)
         snrs.append(row)
     horizons = []
     for mass in (2e3, 2e4, 2e5):

@@ -91,9 +91,11 @@ def _span(source: Inspiral, band, observation):
     return tau_start, tau_end
 
 
-def reference_snr(reference, source, observation, convention_options=None):
-    """SNR of a source in a broadband reference detector (sky-averaged), over its band."""
+def reference_snr(reference, source, observation=None, convention_options=None):
+    """SNR of a source in a broadband reference detector (sky-averaged), over its band, observed for
+    ``observation`` s (default: the detector's own observing time, ``reference.observation``)."""
     opts = convention_options or {}
+    observation = float(observation or reference.observation)
     if isinstance(source, Monochromatic):
         lo, hi = reference.band
         if not lo <= source.frequency <= hi:
