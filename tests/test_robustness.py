@@ -134,13 +134,19 @@ def test_fuzzed_valid_toml_mutations(tmp_path):
 
 
 # interrupted runs ----------------------------------------------------------------------------
+def _plain_env():
+    """The environment without coverage's subprocess hooks: the child must run our own signal
+    handling only (and at full speed), whatever measures the parent."""
+    return {k: v for k, v in os.environ.items() if not k.startswith(("COV_CORE", "COVERAGE"))}
+
+
 @pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGKILL])
 def test_killed_run_leaves_the_old_output_intact(tmp_path, sig):
     out = tmp_path / "table.ecsv"
     out.write_text("previous results\n")
     proc = subprocess.Popen([sys.executable, "-m", "gwclock", "sweep", "--vary", "clock.atom_number=1e3:1e7:20000:log",
                              "--metric", "band@1e-17", "--table", str(out), "--quiet"],
-                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=tmp_path)
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, cwd=tmp_path, env=_plain_env())
     # signal the run once its first chunk is in the temporary file: mid-write, whatever the machine's speed
     deadline = time.monotonic() + 120
     while time.monotonic() < deadline and proc.poll() is None:
