@@ -10,13 +10,14 @@ from __future__ import annotations
 
 import os
 import tempfile
+import threading
 import tomllib
 from pathlib import Path
 
 from .errors import InputError
 
 __all__ = ["TABLE_FORMATS", "FIGURE_FORMATS", "register_input", "is_input", "check_output_path",
-           "atomic_path", "read_toml"]
+           "atomic_path", "read_toml", "STOP", "check_stop"]
 
 #: Table suffixes and the astropy writer of each.
 TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}
@@ -24,6 +25,17 @@ TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}
 FIGURE_FORMATS = (".png", ".pdf", ".svg")
 
 _INPUTS: set[Path] = set()
+
+#: Set when the user asked the run to stop (SIGTERM): a stop raised at an unlucky moment (inside a
+#: finaliser, where Python only prints it) is raised again at the next safe point, and no output is
+#: renamed into place after it.
+STOP = threading.Event()
+
+
+def check_stop() -> None:
+    """Raise KeyboardInterrupt if a stop was requested."""
+    if STOP.is_set():
+        raise KeyboardInterrupt
 
 
 def register_input(path) -> None:
@@ -77,8 +89,11 @@ class atomic_path:
         return self.tmp
 
     def __exit__(self, exc_type, exc, tb):
-        if exc_type is None:
+        if exc_type is None and not STOP.is_set():
             os.replace(self.tmp, self.target)
+        elif exc_type is None:
+            self.tmp.unlink(missing_ok=True)
+            raise KeyboardInterrupt
         else:
             self.tmp.unlink(missing_ok=True)
         return False

@@ -302,8 +302,25 @@ class TestEntryPoint:
     def test_sigterm_becomes_an_interruption(self):
         import signal
         main(["--cite"])
+        from gwclock.files import STOP
         with pytest.raises(KeyboardInterrupt):
             signal.getsignal(signal.SIGTERM)(signal.SIGTERM, None)
+        assert STOP.is_set()
+        STOP.clear()
+
+    def test_no_output_is_renamed_into_place_after_a_stop(self, tmp_path):
+        # even if the interruption was swallowed somewhere, the finished file is not put in place
+        from gwclock.files import STOP, atomic_path
+        target = tmp_path / "t.ecsv"
+        target.write_text("old")
+        STOP.set()
+        try:
+            with pytest.raises(KeyboardInterrupt):
+                with atomic_path(target) as tmp:
+                    tmp.write_text("new")
+        finally:
+            STOP.clear()
+        assert target.read_text() == "old" and [p.name for p in tmp_path.iterdir()] == ["t.ecsv"]
 
 
 def test_a_reference_curve_is_exported_inside_its_valid_band_only(tmp_path, capsys):

@@ -13,6 +13,7 @@ import sys
 import threading
 
 from ..errors import InputError
+from ..files import STOP
 from ..version import __version__
 from . import design, documents, science, study
 from .common import Parser
@@ -59,6 +60,7 @@ def _stop_politely_on_sigterm():
     """Turn SIGTERM into KeyboardInterrupt so that partial outputs are cleaned up."""
     if threading.current_thread() is threading.main_thread():
         def stop(signum, frame):
+            STOP.set()  # remembered, in case this raise lands where Python cannot propagate it
             raise KeyboardInterrupt
         signal.signal(signal.SIGTERM, stop)
 
@@ -67,6 +69,7 @@ def main(argv=None) -> int:
     """Run the command line; returns the exit code."""
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
+    STOP.clear()  # a new run
     _stop_politely_on_sigterm()
     try:
         args = build_parser().parse_args(argv)

@@ -6,7 +6,7 @@ import io
 
 from astropy.table import Table
 
-from ..files import TABLE_FORMATS, atomic_path, check_output_path
+from ..files import TABLE_FORMATS, atomic_path, check_output_path, check_stop
 
 __all__ = ["TableStream"]
 
@@ -37,6 +37,7 @@ class TableStream:
         return buf.getvalue()
 
     def append(self, table):
+        check_stop()
         text = self._render(table)
         if self.rows:
             lines = [ln for ln in text.splitlines(keepends=True) if not ln.startswith("#")]
