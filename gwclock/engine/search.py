@@ -180,10 +180,10 @@ def _descend(design, kind, f0, linear, best, ok):
     return best
 
 
-def _keep_better(best, score, idx, trial):
-    """Put the trial's parts into ``best`` where its total beats ``score`` (both updated in place);
-    returns the improved mask over ``idx``."""
-    t_score = total_psd(trial)
+def _keep_better(best, score, idx, trial, t_score=None):
+    """Put the trial's parts into ``best`` where its total (``t_score``, computed when not given)
+    beats ``score`` (both updated in place); returns the improved mask over ``idx``."""
+    t_score = total_psd(trial) if t_score is None else t_score
     better = t_score < score[idx]
     win = idx[better]
     score[win] = t_score[better]
@@ -231,9 +231,6 @@ def _refine_ramsey(design, f0, best, ok):
         parts = evaluate(sub, RAMSEY, f0[idx], np.zeros(idx.size), T)
         return parts, total_psd(parts)
 
-    def keep(idx, parts, _total=None):
-        _keep_better(best, score, idx, parts)
-
     smooth = ok & (f0 * T0 <= 0.5 * (1 + 1e-9))
     idx = np.flatnonzero(smooth)
     if idx.size:
@@ -243,8 +240,8 @@ def _refine_ramsey(design, f0, best, ok):
         x1, x2 = b - g * (b - a), a + g * (b - a)
         p1, s1 = trial(idx, np.exp(x1))
         p2, s2 = trial(idx, np.exp(x2))
-        keep(idx, p1, s1)
-        keep(idx, p2, s2)
+        _keep_better(best, score, idx, p1, s1)
+        _keep_better(best, score, idx, p2, s2)
         for _ in range(_GOLDEN_STEPS):
             left = s1 < s2  # the minimum lies in [a, x2]
             b = np.where(left, x2, b)
@@ -254,21 +251,21 @@ def _refine_ramsey(design, f0, best, ok):
             s_keep = np.where(left, s1, s2)
             new = np.where(left, x1n, x2n)
             pn, sn = trial(idx, np.exp(new))
-            keep(idx, pn, sn)
+            _keep_better(best, score, idx, pn, sn)
             x1, x2 = x1n, x2n
             s1, s2 = np.where(left, sn, s_keep), np.where(left, s_keep, sn)
     lobed = ok & ~smooth
     # the shortest interrogation is allowed as it is, between lobe maxima or not
     idx = np.flatnonzero(lobed & (f0 * lo_T > 0.5))
     if idx.size:
-        keep(idx, *trial(idx, lo_T[idx]))
+        _keep_better(best, score, idx, *trial(idx, lo_T[idx]))
     if np.any(lobed):
         k = np.round(f0 * T0 - 0.5)
         k_max = np.floor(f0 * hi_T - 0.5)
         k_min = np.maximum(np.ceil(f0 * lo_T - 0.5), 0.0)  # no lobe maximum shorter than two pi pulses
 
         def attempt(idx, cand):
-            return _keep_better(best, score, idx, trial(idx, (cand + 0.5) / f0[idx])[0])
+            return _keep_better(best, score, idx, *trial(idx, (cand + 0.5) / f0[idx]))
 
         jump = np.maximum(np.round(0.04 * k), 1.0)
         _integer_descent(k, k_min, k_max, jump, 1.0, lobed & (k_max > k_min), attempt)
