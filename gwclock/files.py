@@ -85,6 +85,10 @@ class atomic_path:
         fd, name = tempfile.mkstemp(prefix=f".{self.target.name}.", suffix=f".part{self.target.suffix}",
                                     dir=self.target.parent if str(self.target.parent) else ".")
         os.close(fd)
+        # mkstemp makes the file private (0600); an output gets the permissions of any new file
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(name, 0o666 & ~umask)
         self.tmp = Path(name)
         return self.tmp
 

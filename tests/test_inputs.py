@@ -198,6 +198,19 @@ class TestFiles:
         register_input(tmp_path / "a")  # must not raise
         assert isinstance(is_input(tmp_path / "a"), bool)
 
+    def test_outputs_get_the_permissions_of_any_new_file(self, tmp_path):
+        # a table the user asked for is readable as any file they create (POSIX umask; common practice)
+        import os
+
+        from gwclock.files import atomic_path
+        old = os.umask(0o022)
+        try:
+            with atomic_path(tmp_path / "t.ecsv") as tmp:
+                tmp.write_text("x")
+        finally:
+            os.umask(old)
+        assert (tmp_path / "t.ecsv").stat().st_mode & 0o777 == 0o644
+
     def test_an_output_path_that_is_a_folder_is_refused(self, tmp_path):
         from gwclock.files import check_output_path
         (tmp_path / "out.ecsv").mkdir()
