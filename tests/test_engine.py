@@ -146,7 +146,8 @@ class TestBandEdges:
     tau = 118.0
 
     def dd_projection(self, d, f0):
-        best, ok = optimise(d, np.atleast_1d(f0), "cpmg")
+        # the analytic limits hold for sequences locked to f0 (T = n / (2 f0))
+        best, ok = optimise(d, np.atleast_1d(f0), "cpmg", locked=True)
         assert ok.all()
         return best["projection"]
 
@@ -426,3 +427,34 @@ def test_the_envelope_of_every_shipped_mission_is_the_exhaustive_minimum(path):
     f = np.geomspace(1e-4, 100, 36)
     sy = envelope(d, f).total * signal_response(d, f)
     assert np.max(sy / brute(d, f) - 1) <= 1e-6
+
+
+class TestFreeInterrogation:
+    """The interrogation is free, not locked to the tuning T = n/(2 f)."""
+
+    def test_a_spin_echo_peaks_away_from_its_locked_timing(self):
+        # spin echo, projection noise only, no decay, no dead time: S_y,eq ~ T / |G(f, T)|^2 with the
+        # closed form |G| = (4/w) sin^2(w T/4), w = 2 pi f (Cywinski et al. 2008, Phys. Rev. B 77, 174509,
+        # eq. for N = 1). With y = pi f T / 2 the budget goes as y / sin^4 y, least where tan y = 4 y
+        # (derivative, analytic): T = 2 y / (pi f), and y / sin^4 y against the locked y = pi/4 (value pi)
+        from scipy.optimize import brentq
+        y = brentq(lambda y: np.tan(y) - 4 * y, 1.0, 1.5)
+        d = quiet_design(kind="echo", max_interrogation=1e4)
+        f = np.array([0.01, 0.3, 2.0])
+        free, ok = optimise(d, f)
+        locked, _ = optimise(d, f, locked=True)
+        assert ok.all()
+        np.testing.assert_allclose(free["interrogation"], 2 * y / (np.pi * f), rtol=1e-6, atol=0)
+        np.testing.assert_allclose(locked["interrogation"], 1 / (2 * f), rtol=1e-12, atol=0)
+        np.testing.assert_allclose(free["projection"] / locked["projection"], y / np.sin(y) ** 4 / np.pi, rtol=1e-9, atol=0)
+
+    def test_the_free_optimum_never_loses_to_the_locked_one(self):
+        # the locked sequences are among the free ones (definition)
+        for path in [None, *MISSIONS]:
+            d = load_mission(path)[0].design()
+            f = np.geomspace(1e-3, 10, 17)
+            free, ok = optimise(d, f)
+            locked, ok2 = optimise(d, f, locked=True)
+            assert (ok == ok2).all()
+            from gwclock.engine.formula import total_psd
+            assert np.all(total_psd(free)[ok] <= total_psd(locked)[ok] * (1 + 1e-12))

@@ -16,7 +16,7 @@ import numpy as np
 from ..physics import noises, projection, response
 from ..physics.design import Design
 
-__all__ = ["evaluate", "linear_noise", "projection_term", "total_psd", "pick", "signal_response"]
+__all__ = ["evaluate", "evaluate_free", "linear_noise", "projection_term", "total_psd", "pick", "signal_response"]
 
 
 def linear_noise(design, kind, f0):
@@ -71,6 +71,24 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
     out.update(log_contrast=np.broadcast_to(log_c, shape), correlated=np.broadcast_to(correlated, shape),
                cycle=Tc, pulses=n, interrogation=T)
     return out
+
+def evaluate_free(design: Design, kind, f, n, T):
+    """Noise budget of sequences (n pulses, interrogation T) at signal frequency f, the
+    interrogation free (not locked to the tuning). A kind whose noise integrals are built on its
+    own tuning (``kind.tuning(n, T)``, CPMG timing) is evaluated there and every noise is moved to
+    f by ``|G(f_s)|^2 / |G(f)|^2``: the noise a cycle carries does not depend on the signal, only
+    the response does. Other kinds (Ramsey, custom timings) take any T at f directly."""
+    tuning = getattr(kind, "tuning", None)
+    if tuning is None:
+        return evaluate(design, kind, f, n, T)
+    fs = tuning(n, T)
+    parts = evaluate(design, kind, fs, n, T)
+    with np.errstate(divide="ignore"):
+        gain = (kind.fundamental(design, fs, n, T) / kind.modulus(design, f, n, T)) ** 2
+    for name in noises.NOISES:
+        parts[name] = parts[name] * gain
+    return parts
+
 
 def projection_term(design, Tc, var, G0sq):
     """Projection part of S_y,eq: ``2 Tc sigma^2 / ((2 pi nu0)^2 |G(f0)|^2)`` (one value per cycle Tc)."""

@@ -14,7 +14,7 @@ from ..physics import filters, noises, projection
 from ..physics.design import Design
 from ..physics.filters import finite_pulse_factor
 from ..physics.sequences import SEQUENCES, Ramsey, closed_form_red, optimal_interrogation
-from .formula import evaluate, linear_noise, pick, projection_term, total_psd
+from .formula import evaluate, evaluate_free, linear_noise, pick, projection_term, total_psd
 from .optimum import continuous_optimum
 
 __all__ = ["optimise", "best_of_kind", "best_sequence", "RAMSEY"]
@@ -30,6 +30,9 @@ _GOLDEN_STEPS = 16
 RAMSEY_POLISH = 1.25
 #: Log-spaced Ramsey interrogation candidates (the first rows of the Ramsey candidate list).
 RAMSEY_LADDER = 24
+#: Steps of the bracketed parabolic search over a free interrogation time (one evaluation each).
+FREE_STEPS = 10
+_GOLD = (3 - np.sqrt(5)) / 2
 
 
 def _periodic_wishes(design, kind, f0, linear):
@@ -115,8 +118,9 @@ def _ramsey_switch(design, f0, lo, hi, steps=60):
     return np.where(never, hi, np.where(always, lo, np.exp(a)))
 
 
-def best_of_kind(design, kind, f0):
-    """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity."""
+def best_of_kind(design, kind, f0, locked=False):
+    """Optimise the interrogation at each tuning f0 (1-D); returns per-f0 arrays and validity.
+    ``locked`` keeps a DD sequence locked to f0 (T = n/(2 f0) for CPMG timing)."""
     f0 = np.asarray(f0, dtype=float)
     linear = linear_noise(design, kind, f0) if kind.linear_in_interrogation else None
     if kind.search == "pulses":
@@ -133,7 +137,178 @@ def best_of_kind(design, kind, f0):
     ok = np.isfinite(np.take_along_axis(score, i[None], axis=0)[0])
     if kind.search == "pulses":
         best = _descend(design, kind, f0, linear, best, ok)
-    return best, ok
+    if locked:
+        return best, ok
+    return _free_interrogation(design, kind, f0, best, ok), ok
+
+
+def _bracket_search(x_lo, x_mid, x_hi, objective, steps=FREE_STEPS):
+    """Minimise ``objective(x)`` on [x_lo, x_hi] at many points at once by Brent's method (Brent
+    1973, Algorithms for Minimization without Derivatives, ch. 5): parabolic interpolation through
+    the three best points, a golden-section step where the parabola leaves the bracket or does not
+    shrink fast enough, never a step below the tolerance. The three given points seed it. The
+    objective returns one score per point and keeps the best sequence itself."""
+    pts = [np.array(v, dtype=float) for v in (x_lo, x_mid, x_hi)]
+    vals = [objective(v) for v in pts]
+    a, b = pts[0].copy(), pts[2].copy()
+    order = np.argsort(np.stack(vals), axis=0, kind="stable")
+    P, V = np.stack(pts), np.stack(vals)
+    x, w, v = (np.take_along_axis(P, order[i][None], 0)[0] for i in range(3))
+    fx, fw, fv = (np.take_along_axis(V, order[i][None], 0)[0] for i in range(3))
+    d = np.zeros_like(x)
+    e = b - a  # lets the first step be parabolic
+    for _ in range(steps):
+        m = 0.5 * (a + b)
+        tol1 = 1e-9 * np.abs(x) + 1e-12
+        r = (x - w) * (fx - fv)
+        q = (x - v) * (fx - fw)
+        p = (x - v) * q - (x - w) * r
+        q = 2 * (q - r)
+        p = np.where(q > 0, -p, p)
+        q = np.abs(q)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = p / q
+        parabolic = (np.abs(e) > tol1) & np.isfinite(step) & (np.abs(p) < np.abs(0.5 * q * e)) \
+            & (p > q * (a - x)) & (p < q * (b - x))
+        u = x + step
+        near_edge = (u - a < 2 * tol1) | (b - u < 2 * tol1)
+        step = np.where(parabolic & near_edge, np.where(m > x, tol1, -tol1), step)
+        e_gold = np.where(x >= m, a - x, b - x)
+        e = np.where(parabolic, d, e_gold)
+        d = np.where(parabolic, step, _GOLD * e_gold)
+        u = x + np.where(np.abs(d) >= tol1, d, np.where(d >= 0, tol1, -tol1))
+        fu = objective(u)
+        fu = np.where(np.isnan(fu), np.inf, fu)
+        better = fu <= fx
+        a = np.where(better, np.where(u >= x, x, a), np.where(u < x, u, a))
+        b = np.where(better, np.where(u >= x, b, x), np.where(u < x, b, u))
+        second = ~better & ((fu <= fw) | (w == x))
+        third = ~better & ~second & ((fu <= fv) | (v == x) | (v == w))
+        v, fv = np.where(better | second, w, np.where(third, u, v)), np.where(better | second, fw, np.where(third, fu, fv))
+        w, fw = np.where(better, x, np.where(second, u, w)), np.where(better, fx, np.where(second, fu, fw))
+        x, fx = np.where(better, u, x), np.where(better, fu, fx)
+
+
+def _free_interrogation(design, kind, f, best, ok):
+    """The DD optimum with the interrogation free: for the winning pulse count, the shortest
+    trains and, by a discrete descent, the winner's neighbours, T is searched continuously around
+    n/(2f) (the response of a short train peaks away from it: a spin echo's |G(f)| is largest at
+    T = 1/f, twice the locked T). The bracket is ``r = 2 f T / n`` in [1 - 1/n, 1 + 2.5/n^2]
+    ([0.1, 2.5] for one pulse): |G| of n pulses at fixed f is largest at ``r ~ 1 + 2/n^2`` and
+    the noise a cycle carries grows with T, so the optimum lies below that peak; at r = 1 - 1/n
+    the count n - 1 is locked to f. Where the automatic read-out switches inside a bracket the
+    budget jumps, and each side is searched on its own. A count is searched only where a strict
+    lower bound of its projection noise does not already lose."""
+    best = {k: np.array(np.broadcast_to(v, f.shape)) for k, v in best.items()}
+    score = np.where(ok, total_psd(best), np.inf)
+    locked = getattr(kind, "tuning", None) is not None
+    T_best = np.asarray(best["interrogation"], dtype=float).copy()
+    hi_T = np.broadcast_to(design.max_interrogation, f.shape) * (1 + 1e-12)
+
+    def attempt(idx, n_c):
+        before = score[idx].copy()
+        fi = f[idx]
+        sub = design.take(idx, f.size)
+        mid = n_c / (2 * fi) if locked else T_best[idx]
+        one = n_c <= 1
+        lo = mid * np.where(one, 0.1, 1 - 1 / np.maximum(n_c, 1))
+        hi = mid * np.where(one, 2.5, 1 + 2.5 / np.maximum(n_c, 1) ** 2)
+        lo = np.maximum(lo, kind.shortest(sub, n_c) * (1 + 1e-9))
+        hi = np.minimum(hi, hi_T[idx])
+        with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+            room = (lo < hi) & ~(_projection_bound(sub, fi, lo, hi, n_c) > before)
+        j = np.flatnonzero(room)
+        if j.size == 0:
+            return np.zeros(idx.size, dtype=bool)
+        pts, sub, nj, lo, hi = idx[j], sub.take(j, idx.size), n_c[j], lo[j], hi[j]
+        mid = np.clip(mid[j], lo, hi)
+        pieces = [(np.arange(j.size), lo, mid, hi)]
+        if design.comparison == "auto":
+            t_sw = _free_switch(sub, kind, f[pts], nj, lo, hi)
+            split = (t_sw > lo) & (t_sw < hi)
+            if np.any(split):
+                s = np.flatnonzero(split)
+                below, above = t_sw[s] * (1 - 1e-9), t_sw[s] * (1 + 1e-9)
+                pieces = [(np.flatnonzero(~split), lo[~split], mid[~split], hi[~split]),
+                          (s, lo[s], np.sqrt(lo[s] * below), below),
+                          (s, above, np.sqrt(above * hi[s]), hi[s])]
+        for which, a, m, b in pieces:
+            if which.size == 0:
+                continue
+            p, dsub, n_p = pts[which], sub.take(which, j.size), nj[which]
+
+            def objective(x, p=p, dsub=dsub, n_p=n_p):
+                T = np.minimum(np.exp(x), hi_T[p])
+                parts = evaluate_free(dsub, kind, f[p], n_p, T)
+                total = total_psd(parts)
+                total = np.where(np.isfinite(total), total, np.inf)
+                _keep_better(best, score, p, parts, total)
+                with np.errstate(divide="ignore"):
+                    return np.log(total)  # parabolas fit the log of a budget spanning decades better
+
+            _bracket_search(np.log(a), np.log(m), np.log(b), objective)
+        return score[idx] < before * (1 - 1e-15)
+
+    active = ok & np.isfinite(score)
+    n = np.asarray(best["pulses"], dtype=float).copy()
+    if not np.any(active):
+        return best
+    attempt(np.flatnonzero(active), n[active])
+    if kind.search == "pulses":
+        step = float(kind.step)
+        n_min = float(kind.min_pulses())
+        # the shortest trains: a spin echo's broad response can beat every longer count
+        for c in (n_min, n_min + step):
+            idx = np.flatnonzero(active & (n != c))
+            if idx.size:
+                attempt(idx, np.full(idx.size, c))
+        n = np.asarray(best["pulses"], dtype=float).copy()
+        n_max = np.floor((2 * f * design.max_interrogation + 1) / step) * step
+        # jumps of two counts first: the free optimum alternates between odd and even counts
+        jump = np.full(f.shape, 2 * step)
+        _integer_descent(n, n_min, n_max, jump, step, active, attempt)
+    return best
+
+
+def _free_switch(design, kind, f, n, lo, hi, steps=40):
+    """Interrogation in [lo, hi] where the common-mode laser phase of n pulses (T free) reaches
+    the correlated read-out threshold, by bisection in ln T (it grows with T); NaN where the
+    bracket does not straddle it."""
+    terms = noises.laser_terms(design)
+    tuning = getattr(kind, "tuning", None)
+
+    def over(T):
+        fs = tuning(n, T) if tuning is not None else f
+        return kind.common_mode(design, terms, fs, n, T) > projection.CORRELATED_THRESHOLD
+
+    out = np.full(np.shape(lo), np.nan)
+    straddle = np.flatnonzero(~over(lo) & over(hi))
+    if straddle.size == 0:
+        return out
+    size = out.size
+    # the closure reads these names: the bisection runs on the straddling points only
+    design, f, n = design.take(straddle, size), np.asarray(f)[straddle], np.asarray(n)[straddle]
+    terms = noises.laser_terms(design)
+    a, b = np.log(lo[straddle]), np.log(hi[straddle])
+    for _ in range(steps):
+        m = 0.5 * (a + b)
+        up = over(np.exp(m))
+        a, b = np.where(up, a, m), np.where(up, m, b)
+    out[straddle] = np.exp(b)
+    return out
+
+
+def _projection_bound(design, f, lo, hi, n):
+    """A strict lower bound of S_y,eq over sequences of n pi pulses (0: Ramsey) with T in [lo, hi]
+    at f: the projection term with C = 1, the smallest read-out factor and |G(f)| <= min(T,
+    (n + 1)/(pi f)) (each of the n + 1 pieces of constant sign adds at most 2/(2 pi f)); the
+    other noises only add."""
+    Td = design.dead_time
+    cap = (np.asarray(n, dtype=float) + 1) / (np.pi * f)
+    T = np.clip(cap, lo, hi)  # (T + Td) / min(T, cap)^2 is least where T meets the cap
+    g = (T + Td) / np.minimum(T, cap) ** 2
+    var = projection.phase_variance(design.atom_number, 0.0, np.minimum(design.squeezing, 1.0))
+    return projection_term(design, g, var, 1.0)
 
 
 def _integer_descent(x, lo, hi, jump, unit, active, attempt):
@@ -218,7 +393,8 @@ def _ramsey_floor(design):
 def _refine_ramsey(design, f0, best, ok):
     """Polish the best Ramsey candidate on the exact budget. Below the first lobe maximum
     (f0 T <= 1/2) T is continuous: a golden-section search in ln T over the ladder cell around the
-    candidate. Beyond it T sits on lobe maxima (k + 1/2)/f0: a discrete descent over k."""
+    candidate. Beyond it a discrete descent over the lobe maxima (k + 1/2)/f0, then T continuous
+    over the middle of the winning lobe."""
     best = {k: np.array(np.broadcast_to(v, f0.shape), dtype=float) for k, v in best.items()}
     T0 = best["interrogation"]
     score = np.where(ok, total_psd(best), np.inf)
@@ -269,6 +445,25 @@ def _refine_ramsey(design, f0, best, ok):
 
         jump = np.maximum(np.round(0.04 * k), 1.0)
         _integer_descent(k, k_min, k_max, jump, 1.0, lobed & (k_max > k_min), attempt)
+        # the noise a cycle carries grows with T, so the optimum lies a little short of the lobe
+        # maximum: T continuous over the middle of the winning lobe
+        idx = np.flatnonzero(lobed)
+        T1 = best["interrogation"][idx]
+        fi = f0[idx]
+        k = np.maximum(np.round(fi * T1 - 0.5), 0.0)
+        a = np.maximum((k + 0.2) / fi, lo_T[idx])
+        b = np.minimum((k + 0.8) / fi, hi_T[idx])
+        room = a < b
+        idx, a, b, T1 = idx[room], a[room], b[room], T1[room]
+        if idx.size:
+            def objective(x, idx=idx):
+                parts, total = trial(idx, np.exp(x))
+                total = np.where(np.isfinite(total), total, np.inf)
+                _keep_better(best, score, idx, parts, total)
+                with np.errstate(divide="ignore"):
+                    return np.log(total)
+
+            _bracket_search(np.log(a), np.log(np.clip(T1, a, b)), np.log(b), objective)
     return best
 
 
@@ -327,7 +522,7 @@ def _best_ramsey_pruned(design, f0, n, T, valid):
     return out, np.isfinite(score[i, point])
 
 
-def optimise(design: Design, f0, kind: str | None = None):
+def optimise(design: Design, f0, kind: str | None = None, locked: bool = False):
     """Best sequence of one kind at each tuning f0 (no Ramsey fallback).
 
     Parameters
@@ -337,6 +532,9 @@ def optimise(design: Design, f0, kind: str | None = None):
         Tuning frequencies in Hz (1-D).
     kind : str, optional
         Sequence kind (default: the mission's).
+    locked : bool, optional
+        Keep a DD sequence's timing locked to f0 (CPMG timing T = n/(2 f0)) instead of the free
+        interrogation the envelope uses.
 
     Returns
     -------
@@ -344,7 +542,7 @@ def optimise(design: Design, f0, kind: str | None = None):
         Per-f0 arrays as from :func:`evaluate` for the chosen sequence, and whether any
         sequence of that kind reaches f0.
     """
-    return best_of_kind(design, SEQUENCES[kind or design.kind], np.atleast_1d(np.asarray(f0, dtype=float)))
+    return best_of_kind(design, SEQUENCES[kind or design.kind], np.atleast_1d(np.asarray(f0, dtype=float)), locked)
 
 
 def best_sequence(design, f0):
@@ -409,14 +607,6 @@ def _scatter(result, mask):
 
 
 def _ramsey_projection_bound(design, f0):
-    """A strict lower bound of the Ramsey S_y,eq at f0: the projection term 2 Tc sigma^2 /
-    ((2 pi nu0)^2 |G|^2) with C = 1, the smallest read-out penalty, and |G|^2 <= min(T^2, 1/(pi f0)^2),
-    minimised over T in the allowed range (the other noises only add)."""
-    lo = 2 * design.pi_pulse_duration  # the shortest Ramsey interrogation ``snap`` accepts
-    hi = design.max_interrogation
-    Td = design.dead_time
-    w = np.pi * f0
-    cross = np.clip(1.0 / w, lo, hi)  # where 1/T^2 meets (pi f0)^2, inside the range
-    g = np.maximum((cross + Td) / cross**2, (cross + Td) * w**2)  # the least Tc / |G|^2
-    var = projection.phase_variance(design.atom_number, 0.0, np.minimum(design.squeezing, 1.0))
-    return projection_term(design, g, var, 1.0)
+    """A strict lower bound of the Ramsey S_y,eq at f0 over the allowed interrogations (see
+    :func:`_projection_bound` with no pi pulse)."""
+    return _projection_bound(design, f0, 2 * design.pi_pulse_duration, design.max_interrogation, 0.0)

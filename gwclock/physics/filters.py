@@ -372,6 +372,32 @@ def odd_harmonic_sum(s, count=np.inf, first=0):
     return np.where(count > first, hi - np.where(first > 0, lo, 0.0), 0.0)
 
 
+#: Half-width, in harmonics of f0, of the ramp over which a band edge takes in the first lobe.
+_EDGE_RAMP = 0.25
+
+
+def _first_share(x):
+    """Share of the first lobe (harmonic 1) below the point x of the harmonic axis: 0 below
+    1 - _EDGE_RAMP, 1 above 1 + _EDGE_RAMP, a smoothstep (continuous slope) between."""
+    t = np.clip((np.asarray(x, dtype=float) - 1 + _EDGE_RAMP) / (2 * _EDGE_RAMP), 0.0, 1.0)
+    return t * t * (3 - 2 * t)
+
+
+def _odd_sum_through(s, x):
+    """``sum_k share_k(x) k^(-s)`` over odd k for a point x >= 0 of the harmonic axis (inf gives
+    the complete sum). The lobe of harmonic k >= 3 is spread evenly over its cell [k - 1, k + 1]
+    (share_k rises linearly across it), which makes the count of harmonics below x exactly x/2
+    beyond the first cell; the first lobe, narrow against the empty axis below it, comes in over
+    [1 - _EDGE_RAMP, 1 + _EDGE_RAMP]."""
+    x = np.asarray(x, dtype=float)
+    finite = np.isfinite(x)
+    xf = np.where(finite, x, 0.0)
+    k = 2 * np.floor(xf / 2) + 1  # the odd harmonic whose cell holds x
+    part = np.where(k > 1, (xf - k + 1) / 2, _first_share(xf)) * k ** (-float(s))
+    whole = np.where(finite, (k - 1) / 2, np.inf)
+    return odd_harmonic_sum(s, whole) + np.where(finite, part, 0.0)
+
+
 def periodic_noise_integral(alpha, T, f0, cutoff=np.inf, low=0.0):
     """``integral_low^cutoff f^alpha |G(f)|^2 df`` for an ideal CPMG sequence tuned to f0.
 
@@ -411,19 +437,22 @@ def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
     low = np.asarray(low, dtype=float)
     if alpha >= 1 and not np.all(np.isfinite(cutoff)):
         raise ValueError("a rising noise needs a finite cutoff")
-    # a term covers [low, cutoff): the odd harmonics k f0 with low <= k f0 < cutoff, so that terms
-    # meeting at a band edge (the shot noise at the phase-lock bandwidth) partition the axis and a
-    # harmonic on the edge is counted once. count(c) = #{odd k < c} and first(c) = #{odd k < c} too.
-    with np.errstate(over="ignore", invalid="ignore"):
-        count = np.maximum(np.ceil((cutoff / f0 - 1) / 2), 0.0)
-    first = np.where(low > 0, np.maximum(np.ceil((low / f0 - 1) / 2), 0.0), 0.0)
-    slope = (4 / np.pi**2) * f0**alpha * odd_harmonic_sum(2 - alpha, count, first)
+    # a term covers [low, cutoff). A band edge takes a share of the lobe whose cell it falls in (see
+    # _odd_sum_through; one half on the harmonic itself), so that terms meeting at a band edge (the
+    # shot noise at the phase-lock bandwidth) partition the axis and the budget neither jumps nor
+    # ripples as a sequence's tuning moves its harmonics across the edge.
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        upper = np.maximum(cutoff / f0, 0.0)
+        lower = np.where(low > 0, np.maximum(low / f0, 0.0), 0.0)
+        lower = np.minimum(lower, upper)  # an empty band [low, cutoff) holds nothing
+    slope = (4 / np.pi**2) * f0**alpha * (_odd_sum_through(2 - alpha, upper) - _odd_sum_through(2 - alpha, lower))
     if alpha == 2:
         # the pi/2-pulse plateau: integral_0^x f^2 |G|^2 df = (odd-harmonic lobes below x) + x / (2 pi^2)
         # once x has passed the first lobe (exact between lobes, by Parseval on g'), and about 0 below
-        # f0 where |G|^2 is tiny; a band [low, cutoff) takes the difference
+        # f0 where |G|^2 is tiny; it comes in with the first lobe's share; a band [low, cutoff) takes
+        # the difference
         def plateau(x):
-            return np.where(x >= f0, x, 0.0)
+            return np.where(np.isfinite(x), x * _first_share(np.where(np.isfinite(x), x, 0.0) / f0), x)
         edge = np.maximum(plateau(cutoff) - plateau(low), 0.0) / (2 * np.pi**2)
     elif alpha == 1:
         edge = np.log(np.maximum(cutoff / np.maximum(low, f0), 1.0)) / (2 * np.pi**2)

@@ -102,22 +102,27 @@ def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None
     n = np.asarray(best["pulses"], dtype=float)
     Tc = np.asarray(best["cycle"], dtype=float)
     dd = n > 0
+    kind = SEQUENCES[design.kind]
+    # the noise of a tuning is quoted at f_k through |G(f_k)|^2 (a sequence with a free interrogation
+    # is not centred on f_k); its lobes sit at the odd harmonics of the sequence's own tuning
     G0sq = (T * np.sinc(fk * T)) ** 2
+    centre = fk.copy()
     if np.any(dd):
-        G0sq[dd] = SEQUENCES[design.kind].fundamental(design, fk[dd], n[dd], T[dd]) ** 2
+        G0sq[dd] = kind.modulus(design, fk[dd], n[dd], T[dd]) ** 2
+        if hasattr(kind, "tuning"):
+            centre[dd] = kind.tuning(n[dd], T[dd])
     sigma_n2 = G0sq * sy / (2 * Tc)  # divided by (2 pi nu0)^2, which cancels
     cycles = observation / fk.size / Tc
     k = 2 * np.arange(harmonics) + 1.0
     f_ref = f_ref or float(np.sqrt(fk[0] * fk[-1]))
 
-    kind = SEQUENCES[design.kind]
     if np.any(dd) and not hasattr(kind, "lobe_areas"):
         raise ValueError(f"the clock-scan background needs the lobe areas of the filter function; the {design.kind} "
                          "kind does not provide them (use cpmg, xy8 or echo)")
-    weight = kind.lobe_areas(design, fk, n, T, k) if np.any(dd) else np.zeros((fk.size, k.size))
+    weight = kind.lobe_areas(design, centre, n, T, k) if np.any(dd) else np.zeros((fk.size, k.size))
 
     def signal_variance(beta):
-        fh = fk[:, None] * k[None, :]
+        fh = centre[:, None] * k[None, :]
         resp = 0.5 * response.link_response(fh, design.baseline, design.path) * \
             response.phase_lock_transfer(fh, design.phase_lock_bandwidth)
         sh = strain_psd_from_omega(fh, (fh / f_ref) ** beta, h0)

@@ -62,15 +62,19 @@ class Custom:
         return _unit_sequence(tuple(design.pulse_times))
 
 
+    def shortest(self, design, n=None):
+        """The interrogation below which the pi pulses (and the pi/2 pulses at the ends) overlap (s)."""
+        fr = self.unit(design).fractions
+        gaps = np.diff(np.concatenate(([0.0], fr, [1.0])))
+        gaps[0] *= 2
+        gaps[-1] *= 2
+        return design.pi_pulse_duration / gaps.min()
+
     def snap(self, design, f0, T_wish):
         unit = self.unit(design)
         f0 = np.asarray(f0, dtype=float)
         T = np.broadcast_to(unit.peak / f0, np.broadcast(f0, T_wish).shape)
-        fr = unit.fractions
-        gaps = np.diff(np.concatenate(([0.0], fr, [1.0])))
-        gaps[0] *= 2
-        gaps[-1] *= 2
-        fits = T * gaps.min() > design.pi_pulse_duration
+        fits = T > self.shortest(design)
         return np.full(T.shape, float(unit.n)), T, (T <= design.max_interrogation) & fits
 
     def _G(self, design, f, T):

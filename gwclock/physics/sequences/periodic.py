@@ -47,6 +47,17 @@ class Periodic:
     def pulse_error(self, design):
         return design.pulse_error**self.error_order
 
+    @staticmethod
+    def shortest(design, n):
+        """The interrogation below which n pi pulses of duration t_pi do not fit (s)."""
+        return np.asarray(n, dtype=float) * design.pi_pulse_duration
+
+    @staticmethod
+    def tuning(n, T):
+        """The frequency n / (2T) the noise integrals of n pulses in T are built on (odd harmonics
+        of it); a signal at another frequency sees the same noise through |G(f)| instead."""
+        return np.asarray(n, dtype=float) / (2 * np.asarray(T, dtype=float))
+
     def snap(self, design, f0, T_wish):
         """Allowed (n, T, valid) nearest to the wished interrogation at tuning f0."""
         f0 = np.asarray(f0, dtype=float)
