@@ -31,7 +31,7 @@ RAMSEY_POLISH = 1.25
 #: Log-spaced Ramsey interrogation candidates (the first rows of the Ramsey candidate list).
 RAMSEY_LADDER = 24
 #: Steps of the bracketed parabolic search over a free interrogation time (one evaluation each).
-FREE_STEPS = 10
+FREE_STEPS = 16
 _GOLD = (3 - np.sqrt(5)) / 2
 
 
