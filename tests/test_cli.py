@@ -166,6 +166,9 @@ def test_snr_horizon_background_commands(tmp_path, capsys):
     # (f_ISCO = c^3 / (6^1.5 pi G M), common practice, no source): never reached, said in words
     code, out, _ = run(["horizon", "--masses", "1e5", "--against", "aligo"], capsys)
     assert code == 0 and "not reached" in out.splitlines()[-1]
+    # the search stops at a stated redshift and says so
+    code, out, _ = run(["horizon", "--masses", "1e4", "--against", "lisa", "--measure", "optimal"], capsys)
+    assert code == 0 and "optimal-orientation horizon" in out and "beyond z = 100" in out.splitlines()[-1]
     code, out, _ = run(["background", "--points", 60, "--against", "lisa", "--table", tmp_path / "b.ecsv"], capsys)
     assert code == 0 and "time shared evenly" in out
     b = QTable.read(tmp_path / "b.ecsv")
@@ -186,8 +189,9 @@ def test_study_commands_against_independent_values(tmp_path, capsys):
     assert run(["snr", "--frequency", "3 mHz", "--h0", "1e-21", "--against", "lisa", "--table", tmp_path / "s.ecsv",
                 "--observation", "1 yr"], capsys)[0] == 0
     t = QTable.read(tmp_path / "s.ecsv")
-    lisa_row = [r for r in t if r["detector"] == "LISA"][0]
-    assert float(lisa_row["snr"]) == pytest.approx(1e-21 * np.sqrt(4 * T / lisa_psd(3e-3)), rel=1e-9, abs=0)
+    # SNR^2 adds over LISA's two channels A and E (Robson, Cornish & Liu 2019, sec. 2; from memory)
+    lisa_row = [r for r in t if r["detector"] == "LISA, 2 channels"][0]
+    assert float(lisa_row["snr"]) == pytest.approx(1e-21 * np.sqrt(2 * 4 * T / lisa_psd(3e-3)), rel=1e-9, abs=0)
     assert float(lisa_row["observed"].to_value("s")) == pytest.approx(4 * T, rel=1e-12, abs=0)
     assert run(["horizon", "--masses", "2e5", "--against", "lisa", "--table", tmp_path / "h.ecsv"], capsys)[0] == 0
     z = float(QTable.read(tmp_path / "h.ecsv")["z_lisa"][0])

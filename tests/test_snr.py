@@ -59,7 +59,9 @@ class TestBroadband:
         m = Monochromatic("gb", 3e-3, 1e-21)
         T = 3.15576e7
         r = reference_snr(get_reference("lisa"), m, T)
-        assert r.snr == pytest.approx(1e-21 * np.sqrt(T / get_reference("lisa").sky_averaged(3e-3)), rel=1e-12, abs=0)
+        # SNR^2 = h0^2 T / S_n per channel, summed over LISA's two channels A and E (Robson, Cornish &
+        # Liu 2019, sec. 2; from memory)
+        assert r.snr == pytest.approx(1e-21 * np.sqrt(2 * T / get_reference("lisa").sky_averaged(3e-3)), rel=1e-12, abs=0)
 
 
 class TestClockSchedules:
@@ -111,6 +113,50 @@ def test_horizon_is_the_root():
     z, d = horizon(snr, 2e5, threshold=8.0)
     assert 0 < z < 1e3
     assert snr(Inspiral.from_masses(1e5, 1e5, redshift=z)) == pytest.approx(8.0, rel=1e-5, abs=0)
+
+
+class TestHorizonMeasures:
+    def test_interferometer_orientation_factors(self):
+        # RMS over sky, polarisation and inclination of an interferometer's SNR is 2/5 of the optimal one
+        # (<F+^2> = <Fx^2> = 1/5, <((1 + c^2)/2)^2> = 7/15, <c^2> = 1/3; analytic), and the range is the
+        # optimal horizon over 2.26 (Finn & Chernoff 1993, PRD 47, 2198; 2.2648 from memory)
+        from gwclock.studies.horizon import orientation_factors
+        gain, divisor = orientation_factors("interferometer")
+        assert gain == pytest.approx(5 / 2, rel=1e-9, abs=0)
+        assert divisor == pytest.approx(2.2648, rel=2e-4, abs=0)
+
+    def test_link_orientation_factors_against_monte_carlo(self):
+        # a Doppler link at long wavelength responds as (1 - mu^2)/2 (Estabrook & Wahlquist 1975, GRG 6,
+        # 439): <(1 - mu^2)^2> = 8/15 gives the gain sqrt(75/16) (analytic); the range divisor against
+        # a brute-force Monte Carlo over isotropic orientations (10^6 draws)
+        from gwclock.studies.horizon import orientation_factors
+        gain, divisor = orientation_factors("link")
+        assert gain == pytest.approx(np.sqrt(75 / 16), rel=1e-9, abs=0)
+        rng = np.random.default_rng(7)
+        mu, ci = rng.uniform(-1, 1, (2, 1_000_000))
+        psi = rng.uniform(0, np.pi, 1_000_000)
+        theta2 = (1 - mu**2) ** 2 * (np.cos(2 * psi) ** 2 * (1 + ci**2) ** 2 / 4 + np.sin(2 * psi) ** 2 * ci**2)
+        assert divisor == pytest.approx(np.mean(theta2**1.5) ** (-1 / 3), rel=3e-3, abs=0)
+        assert gain == pytest.approx(np.mean(theta2) ** -0.5, rel=3e-3, abs=0)
+
+    def test_optimal_horizon_and_range(self):
+        # the optimal horizon is where 5/2 x the sky-averaged SNR is the threshold; the range is that
+        # distance over the range divisor (definitions above)
+        from gwclock.astro.sources import distance_at_redshift
+        from gwclock.studies.horizon import orientation_factors
+        aligo = get_reference("aligo")
+
+        def snr(src):
+            return reference_snr(aligo, src, 3.15576e7).snr
+
+        z, d = horizon(snr, 60.0, 8.0, "optimal")
+        assert 2.5 * snr(Inspiral.from_masses(30.0, 30.0, redshift=z)) == pytest.approx(8.0, rel=1e-5, abs=0)
+        assert d == pytest.approx(distance_at_redshift(z), rel=1e-12, abs=0)
+        zr, dr = horizon(snr, 60.0, 8.0, "range")
+        assert dr == pytest.approx(d / orientation_factors("interferometer")[1], rel=1e-12, abs=0)
+        assert distance_at_redshift(zr) == pytest.approx(dr, rel=1e-6, abs=0)
+        za, _ = horizon(snr, 60.0, 8.0)
+        assert za < z
 
 
 class TestBackground:

@@ -139,6 +139,24 @@ class TestReferences:
         assert get_reference("decigo").sky_factor == pytest.approx(10 / 3, rel=1e-12, abs=0)
         assert get_reference("lisa").sky_factor == 1.0
 
+    def test_the_two_et_b_fits_part_where_recalled(self):
+        # ASD of the four-power-law fit (Keppel & Ajith 2010, PRD 82, 122001) over the rational fit
+        # (Mishra et al. 2010, PRD 82, 064010, eq. 2.2): 9.5 at 1 Hz, 0.78 at 100 Hz (both from memory)
+        ratio = np.sqrt(get_reference("et-powerlaw").native([1.0, 100.0]) / get_reference("et").native([1.0, 100.0]))
+        np.testing.assert_allclose(ratio, [9.5, 0.78], rtol=1e-2, atol=0)
+
+    def test_snr_adds_over_the_channels(self):
+        # LISA: two noise-independent channels A and E with the one-channel S_n of Robson, Cornish & Liu
+        # 2019 (sec. 2; from memory), so SNR^2 = 2 h0^2 T / S_n; ET-B is one L-shaped interferometer
+        from gwclock.astro.sources import Monochromatic
+        from gwclock.studies.snr import reference_snr
+        lisa, et = get_reference("lisa"), get_reference("et")
+        assert (lisa.channels, et.channels, get_reference("decigo").channels) == (2, 1, 1)
+        m = Monochromatic("m", 3e-3, 1e-21)
+        assert reference_snr(lisa, m, 1e7).snr == pytest.approx(1e-21 * np.sqrt(2 * 1e7 / lisa_psd(3e-3)), rel=1e-12, abs=0)
+        assert lisa.network(3e-3) == pytest.approx(lisa_psd(3e-3) / 2, rel=1e-12, abs=0)
+        assert lisa.network_label == "LISA, 2 channels"
+
     def test_unknown_reference(self):
         with pytest.raises(KeyError, match="expected one of lisa"):
             get_reference("virgo")

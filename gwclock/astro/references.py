@@ -73,8 +73,19 @@ def aligo_psd(f):
 
 
 def et_psd(f):
-    """Einstein Telescope ET-B analytic fit (Mishra, Arun, Iyer & Sathyaprakash 2010,
-    PRD 82, 064010, as attributed; coefficients as recalled): x = f / 100 Hz, S0 = 1e-50 /Hz."""
+    """Einstein Telescope ET-B rational fit (Mishra, Arun, Iyer & Sathyaprakash 2010, PRD 82,
+    064010, eq. 2.2; coefficients from memory): x = f / 200 Hz, S0 = 1.449e-52 /Hz,
+    ``S = S0 [x^-4.05 + 185.62 x^-0.69 + 232.56 (1 + b1 x + ... + b6 x^6) / (1 + c1 x + ... + c4 x^4)]``."""
+    x = np.asarray(f, dtype=float) / 200.0
+    num = np.polynomial.polynomial.polyval(x, (1.0, 31.18, -64.72, 52.24, -42.16, 10.17, 11.53))
+    den = np.polynomial.polynomial.polyval(x, (1.0, 13.58, -36.46, 18.56, 27.43))
+    return 1.449e-52 * (x ** (-4.05) + 185.62 * x ** (-0.69) + 232.56 * num / den)
+
+
+def et_power_law_psd(f):
+    """ET-B as a sum of four power laws (Keppel & Ajith 2010, PRD 82, 122001; formula and
+    coefficients from memory): x = f / 100 Hz, S0 = 1e-50 /Hz. Its ASD is 0.78 of the rational fit's
+    at 100 Hz and 9.5 times it at 1 Hz, where the two fits part."""
     x = np.asarray(f, dtype=float) / 100.0
     return 1e-50 * (2.39e-27 * x ** (-15.64) + 0.349 * x ** (-2.145) + 1.76 * x ** (-0.12) + 0.409 * x**1.10) ** 2
 
@@ -116,6 +127,14 @@ class Reference:
         (not the clock mission's).
     observation_source : str
         Where that time comes from.
+    channels : int
+        Independent data channels of equal noise the detector's SNR adds over: SNR^2 is the sum
+        over channels, so the network PSD is ``sky_averaged / channels``.
+    channels_source : str
+        What the channels are and where that comes from.
+    pattern : str
+        Long-wavelength antenna pattern for optimal-orientation horizons and ranges
+        (:func:`gwclock.studies.horizon.orientation_factors`).
     """
 
     key: str
@@ -131,6 +150,9 @@ class Reference:
     compared: bool = True
     observation: float = YEAR
     observation_source: str = "one year of data (common practice, no source)"
+    channels: int = 1
+    channels_source: str = "one interferometer"
+    pattern: str = "interferometer"
 
     def options_for(self, confusion_years=None) -> dict:
         """The keyword options to pass for a requested galactic confusion (only where accepted)."""
@@ -146,6 +168,16 @@ class Reference:
         """Sky-averaged S_n (1/Hz), the convention of every gwclock comparison."""
         return self.sky_factor * self.native(f, **options)
 
+    def network(self, f, **options):
+        """Sky-averaged PSD of all the detector's channels together (1/Hz): SNR^2 = sum over the
+        channels, so ``S_n / channels``. SNRs, horizons, backgrounds and overlays use this."""
+        return self.sky_averaged(f, **options) / self.channels
+
+    @property
+    def network_label(self) -> str:
+        """The label with the channel count, for captions and legends."""
+        return f"{self.label}, {self.channels} channel{'s' if self.channels != 1 else ''}"
+
 
 REFERENCES = {
     "lisa": Reference(
@@ -154,19 +186,30 @@ REFERENCES = {
         "galactic confusion for 0.5, 1, 2 or 4 yr on request", checked=False,
         options=("confusion_years",), observation=4 * YEAR,
         observation_source="four years, the nominal science operations of Amaro-Seoane et al. 2017, "
-                           "arXiv:1702.00786 (from memory)"),
+                           "arXiv:1702.00786 (from memory)",
+        channels=2, channels_source="the two noise-independent channels A and E of the constellation; S_n is "
+                                    "one channel's (Robson, Cornish & Liu 2019, sec. 2)"),
     "aligo": Reference(
         "aligo", "Advanced LIGO (design fit)", aligo_psd, OPTIMAL, 5 / 2, (10.0, 1e4),
         "Sathyaprakash & Schutz 2009, Living Rev. Relativ. 12, 2 (analytic fit of the design curve)",
         "90-degree arms: sky average x 5/2; fit valid above about 10 Hz", checked=False),
     "et": Reference(
         "et", "Einstein Telescope (ET-B fit)", et_psd, OPTIMAL, 5 / 2, (1.0, 1e4),
-        "ET-B fit with four power laws, as attributed to Mishra, Arun, Iyer & Sathyaprakash 2010, Phys. Rev. D 82, 064010",
-        "treated as one 90-degree interferometer: sky average x 5/2", checked=False),
+        "ET-B rational fit, Mishra, Arun, Iyer & Sathyaprakash 2010, Phys. Rev. D 82, 064010, eq. 2.2",
+        "one 90-degree interferometer (the ET-B design): sky average x 5/2", checked=False,
+        channels_source="one L-shaped interferometer, the ET-B design the fit describes (not the triangle)"),
+    "et-powerlaw": Reference(
+        "et-powerlaw", "Einstein Telescope (ET-B, four power laws)", et_power_law_psd, OPTIMAL, 5 / 2, (1.0, 1e4),
+        "ET-B fit with four power laws, Keppel & Ajith 2010, Phys. Rev. D 82, 122001",
+        "an alternative ET-B fit, 9.5 times the rational fit's ASD at 1 Hz; one 90-degree interferometer",
+        checked=False, compared=False,
+        channels_source="one L-shaped interferometer, the ET-B design the fit describes"),
     "decigo": Reference(
         "decigo", "DECIGO", decigo_psd, OPTIMAL, 10 / 3, (1e-3, 100.0),
         "Yagi & Seto 2011, Phys. Rev. D 83, 044011, eq. 5 (erratum PRD 95, 109901)",
-        "taken as non-sky-averaged for 60-degree arms: x 10/3 (an assumption, see the paper)", checked=False),
+        "taken as the non-sky-averaged noise of one 60-degree interferometer: x 10/3 = (5/2) / sin^2(60 deg) "
+        "(an assumption, not checked against the paper)", checked=False,
+        channels_source="one interferometer of one cluster (the constellation's further channels not counted)"),
 }
 
 #: The default comparison set (figures, horizons, backgrounds, reports), in registry order.

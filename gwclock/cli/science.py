@@ -17,7 +17,7 @@ from ..outputs.plotting import plot_lines
 from ..outputs.tables import Column, provenance, reference_table, snr_table, track_table
 from ..quantities import parse_frequency
 from ..studies import background as bg
-from ..studies.horizon import horizon
+from ..studies.horizon import MEASURE_LABELS, MEASURES, Z_MAX, horizon
 from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
 from .common import check_outputs, grid, grid_args, mission_arg, number, output_args, quantity, save_plot, save_table, tuned
 
@@ -75,6 +75,7 @@ def cmd_references(args):
         print(f"{r.key:7s} {r.label}  [{r.convention}; x{r.sky_factor:.4g} to sky average; "
               f"{r.band[0]:g}-{r.band[1]:g} Hz]")
         print(f"        {r.source}")
+        print(f"        {r.channels} channel{'s' if r.channels != 1 else ''}: {r.channels_source}")
         if r.note:
             print(f"        {r.note}")
         if not r.checked:
@@ -179,31 +180,34 @@ def cmd_horizon(args):
     refs = _references(args.against if args.against is not None else DEFAULT_COMPARISON, _confusion(args))
     T = mission.design().duration
     check_outputs(args)
-    detectors = [(mission.name, lambda s: clock_snr(curve, s, args.schedule, T).snr)]
+    detectors = [("clock", mission.name, "link", lambda s: clock_snr(curve, s, args.schedule, T).snr)]
     for ref, opts in refs:
-        detectors.append((ref.label, lambda s, ref=ref, opts=opts: reference_snr(ref, s, None, opts).snr))
+        detectors.append((ref.key.replace("-", "_"), ref.network_label, ref.pattern,
+                          lambda s, ref=ref, opts=opts: reference_snr(ref, s, None, opts).snr))
     t = Table()
     t["total_mass"] = Column(masses, unit="solMass")
-    print(f"horizon at SNR {thr:g} (equal masses, Planck18; clock schedule '{args.schedule}')")
+    print(f"{MEASURE_LABELS[args.measure]} at SNR {thr:g} (equal masses, Planck18; clock schedule '{args.schedule}')")
     _say_observing_times(mission, T, refs)
     series = []
-    for label, fn in detectors:
-        zs, ds = zip(*[horizon(fn, m, thr) for m in masses])
-        key = label.split(" (")[0].lower().replace(" ", "_")
+    for key, label, pattern, fn in detectors:
+        zs, ds = zip(*[horizon(fn, m, thr, args.measure, pattern) for m in masses])
         t[f"z_{key}"] = Column(zs)
         t[f"distance_{key}"] = Column(np.array(ds) / MPC, unit="Mpc")
         print(f"  {label}: " + ", ".join(f"{m:g} Msun: {_reach(z)}" for m, z in zip(masses, zs)))
         series.append((label, np.array(masses), np.array(zs)))
     t.meta.update(provenance(mission.name, digest))
-    t.meta.update(snr_threshold=thr, observation_s=T, clock_schedule=args.schedule,
+    t.meta.update(snr_threshold=thr, observation_s=T, clock_schedule=args.schedule, measure=args.measure,
+                  measure_note=MEASURE_LABELS[args.measure],
                   reference_observation_s={r.key: r.observation for r, _ in refs},
-                  note="0 means below threshold at any distance; inf means beyond z = 1000")
+                  reference_channels={r.key: r.channels for r, _ in refs},
+                  note=f"0 means below threshold at any distance; inf means beyond z = {Z_MAX:g}")
     if args.table:
         save_table(t, args.table)
     if args.plot:
         save_plot(args.plot, lambda ax: plot_lines([(lab, x, np.where(np.isfinite(y), y, np.nan)) for lab, x, y in series],
                                                  ax=ax, xlabel=r"total mass [$M_\odot$] (source frame)",
-                                                 ylabel="horizon redshift"), f"{mission.name}: horizon at SNR {thr:g}")
+                                                 ylabel="horizon redshift"),
+                  f"{mission.name}: {args.measure} horizon at SNR {thr:g}")
     return 0
 
 
@@ -231,18 +235,19 @@ def cmd_background(args):
     series.append((f"{mission.name}: power-law integrated (scan)", f[inscan], pi[inscan]))
     for ref, opts in refs:
         key = ref.key
-        sn = ref.sky_averaged(f, **opts)
+        sn = ref.network(f, **opts)
         t[f"omega_n_{key}"] = Column(bg.omega_noise(f, sn, h0))
         inband = (f >= ref.band[0]) & (f <= ref.band[1])
         if inband.sum() >= 2:
             pif = bg.power_law_integrated(f[inband], sn[inband], ref.observation, thr, h0=h0)
             t[f"omega_pi_{key}"] = Column(_extend(f, pif, inband))
-            series.append((f"{ref.label}: power-law integrated", f[inband], pif))
+            series.append((f"{ref.network_label}: power-law integrated", f[inband], pif))
     t.meta.update(provenance(mission.name, digest))
     t.meta.update(snr_threshold=thr, observation_s=T, H0_per_s=h0, scan=f"{lo:g} Hz to {hi:g} Hz in {steps} tunings",
                   assumption=bg.SCAN_ASSUMPTION,
-                  convention="Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) for sky-averaged S_n; references: known-noise "
-                             "single detector (Thrane & Romano 2013); PI columns are NaN outside each band")
+                  convention="Omega_n = 4 pi^2 f^3 S_n / (3 H0^2) for sky-averaged S_n; references: S_n / channels "
+                             "(SNR^2 summed over a detector's channels), known-noise single detector (Thrane & "
+                             "Romano 2013); PI columns are NaN outside each band")
     print(bg.SCAN_ASSUMPTION)
     i = int(np.argmin(np.where(inscan, pi, np.inf)))
     print(f"clock: best power-law integrated Omega {pi[i]:.3g} at {f[i]:.3g} Hz (SNR {thr:g}, {T / YEAR:.3g} yr)")
@@ -288,7 +293,7 @@ def _reach(z):
     if z == 0:
         return "not reached"
     if not np.isfinite(z):
-        return "z>1000"
+        return f"beyond z = {Z_MAX:g}"
     return f"z={z:.3g}"
 
 
@@ -341,6 +346,8 @@ def add_commands(sub):
     mission_arg(sp)
     sp.add_argument("--snr", default="8")
     sp.add_argument("--masses", nargs="+", help="source-frame total masses (solar masses)")
+    sp.add_argument("--measure", choices=MEASURES, default="sky-averaged",
+                    help="sky-averaged distance (default), optimal-orientation horizon or range")
     schedule_arg(sp)
     against_args(sp, f"references (default: {' '.join(DEFAULT_COMPARISON)})")
     output_args(sp)

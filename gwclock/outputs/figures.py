@@ -144,7 +144,7 @@ class _Canvas:
         opts = ref.options_for(item.confusion)
         fr = self.f[(self.f >= ref.band[0]) & (self.f <= ref.band[1])]
         if fr.size >= 2:
-            self.line(fr, self.form(fr, ref.sky_averaged(fr, **opts)), item.label or ref.label, "reference")
+            self.line(fr, self.form(fr, ref.network(fr, **opts)), item.label or ref.network_label, "reference")
 
     def _source_value(self, hc, f):
         """An inspiral's h_c in the spec's form: h_c itself, or 2 sqrt(f)|h~| = h_c / sqrt(f)."""

@@ -22,7 +22,7 @@ from ..engine import envelope, window_psd
 from ..engine.budget import SPAN, band_below
 from ..errors import InputError
 from ..files import atomic_path
-from ..studies.horizon import horizon
+from ..studies.horizon import Z_MAX, horizon
 from ..studies.snr import TunedCurve, clock_snr, reference_snr
 from ..version import __version__
 from .plotting import REFERENCE_STYLES, draw_scan, plot_budget
@@ -91,7 +91,7 @@ def build_report(mission, digest, out_dir):
     for k, style in zip(DEFAULT_COMPARISON, REFERENCE_STYLES):
         ref = get_reference(k)
         fr = f[(f >= ref.band[0]) & (f <= ref.band[1])]
-        ax.plot(fr, np.sqrt(ref.sky_averaged(fr)), label=f"{ref.label} (sky-averaged)", **style)
+        ax.plot(fr, np.sqrt(ref.network(fr)), label=f"{ref.network_label} (sky-averaged)", **style)
     ax.set_xscale("log")
     ax.set_yscale("log")
     ax.set_ylim(asd.min() / 1e5, asd.min() * 1e4)
@@ -131,10 +131,10 @@ def build_report(mission, digest, out_dir):
     meta = provenance(mission.name, digest)
 
     def fmt(x, spec=".3g"):
-        return "-" if not np.isfinite(x) else (f"{x:{spec}}" if x != np.inf else "beyond z = 1000")
+        return "-" if not np.isfinite(x) else (f"{x:{spec}}" if x != np.inf else f"beyond z = {Z_MAX:g}")
 
     params = describe_mission(mission, digest)
-    ref_labels = [get_reference(k).label for k in DEFAULT_COMPARISON]
+    ref_labels = [get_reference(k).network_label for k in DEFAULT_COMPARISON]
     md = [f"# {mission.name}: clock-link sensitivity report", "",
           f"*Concept-study estimate* produced by gwclock {__version__} on {meta['created']} from a mission file with "
           f"SHA-256 `{digest}`. The sensitivity is sky-averaged (normalisation of Robson, Cornish & Liu 2019) and "
@@ -158,7 +158,8 @@ def build_report(mission, digest, out_dir):
            "| source | " + mission.name + " | " + " | ".join(ref_labels) + " |",
            "|---|" + "---|" * (1 + len(ref_labels))]
     md += ["| " + " | ".join([r[0]] + [fmt(x) for x in r[1:]]) + " |" for r in snrs]
-    md += ["", "## Horizon (SNR 8, equal masses, Planck18)", "", "| total mass [Msun] | redshift | luminosity distance [Mpc] |",
+    md += ["", "## Sky-averaged distance at SNR 8 (RMS over sky, polarisation and inclination; equal masses, "
+           "Planck18)", "", "| total mass [Msun] | redshift | luminosity distance [Mpc] |",
            "|---|---|---|"]
     md += [f"| {m:g} | {fmt(z)} | {fmt(d, '.4g')} |" for m, z, d in horizons]
     md += ["", "## Mission parameters", "", "```", params, "```", ""]

@@ -78,7 +78,9 @@ def reference_table(ref, f, psd, convention, options):
     t["asd"] = Column(np.sqrt(psd), unit="Hz(-1/2)")
     t.meta.update(provenance(ref.label, "-"))
     t.meta.update(reference=ref.key, source=ref.source, convention=convention,
-                  sky_factor=ref.sky_factor, valid_band=f"{ref.band[0]:g} Hz to {ref.band[1]:g} Hz")
+                  sky_factor=ref.sky_factor, valid_band=f"{ref.band[0]:g} Hz to {ref.band[1]:g} Hz",
+                  channels=ref.channels, channels_note=f"{ref.channels_source}; the asd column is one channel's, "
+                                                       "SNR^2 adds over the channels (network PSD = S_n / channels)")
     if options:
         t.meta["galactic_confusion_years"] = options["confusion_years"]
     return t

@@ -93,23 +93,24 @@ def _span(source: Inspiral, band, observation):
 
 def reference_snr(reference, source, observation=None, convention_options=None):
     """SNR of a source in a broadband reference detector (sky-averaged), over its band, observed for
-    ``observation`` s (default: the detector's own observing time, ``reference.observation``)."""
+    ``observation`` s (default: the detector's own observing time, ``reference.observation``), with
+    SNR^2 summed over the detector's independent channels (``reference.network``)."""
     opts = convention_options or {}
     observation = float(observation or reference.observation)
     if isinstance(source, Monochromatic):
         lo, hi = reference.band
         if not lo <= source.frequency <= hi:
-            return SNRResult(reference.label, source.name, "broadband", 0.0, source.frequency, source.frequency,
+            return SNRResult(reference.network_label, source.name, "broadband", 0.0, source.frequency, source.frequency,
                              observation, "outside the detector band")
-        s = reference.sky_averaged(source.frequency, **opts)
-        return SNRResult(reference.label, source.name, "broadband", float(source.h0 * np.sqrt(observation / s)),
+        s = reference.network(source.frequency, **opts)
+        return SNRResult(reference.network_label, source.name, "broadband", float(source.h0 * np.sqrt(observation / s)),
                          source.frequency, source.frequency, observation)
     tau_start, tau_end = _span(source, reference.band, observation)
     if tau_start <= tau_end:
-        return SNRResult(reference.label, source.name, "broadband", 0.0, np.nan, np.nan, 0.0, "not in band")
+        return SNRResult(reference.network_label, source.name, "broadband", 0.0, np.nan, np.nan, 0.0, "not in band")
     f1, f2 = float(source.frequency_at(tau_start)), float(source.frequency_at(tau_end))
-    snr = broadband_snr(source, lambda f: reference.sky_averaged(f, **opts), f1, f2)
-    return SNRResult(reference.label, source.name, "broadband", snr, f1, f2, tau_start - tau_end)
+    snr = broadband_snr(source, lambda f: reference.network(f, **opts), f1, f2)
+    return SNRResult(reference.network_label, source.name, "broadband", snr, f1, f2, tau_start - tau_end)
 
 
 class TunedCurve:
