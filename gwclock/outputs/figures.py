@@ -68,9 +68,9 @@ def _render(spec, base_dir, ax):
 
 
 #: The caption of each form: the convention in a few words.
-CAPTIONS = {"asd": "sky-averaged; sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)",
-            "hc": "sky-averaged; h_n = sqrt(f S_n); monochromatic h_c = h0 sqrt(f T)",
-            "omega": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0"}
+CAPTIONS = {"asd": "sky-averaged, references S_n / channels; sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)",
+            "hc": "sky-averaged, references S_n / channels; h_n = sqrt(f S_n); monochromatic h_c = h0 sqrt(f T)",
+            "omega": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0; references S_n / channels"}
 
 
 class _Canvas:
