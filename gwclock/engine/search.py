@@ -30,8 +30,10 @@ _GOLDEN_STEPS = 16
 RAMSEY_POLISH = 1.25
 #: Log-spaced Ramsey interrogation candidates (the first rows of the Ramsey candidate list).
 RAMSEY_LADDER = 24
-#: Steps of the bracketed parabolic search over a free interrogation time (one evaluation each).
+#: Most steps of the bracketed parabolic search over a free interrogation time (one evaluation each).
 FREE_STEPS = 16
+#: Its tolerance in ln T (relative and absolute): a kink of slope 0.1 in ln S then costs 1e-6.
+FREE_XTOL = 1e-5
 _GOLD = (3 - np.sqrt(5)) / 2
 
 
@@ -142,14 +144,18 @@ def best_of_kind(design, kind, f0, locked=False):
     return _free_interrogation(design, kind, f0, best, ok), ok
 
 
-def _bracket_search(x_lo, x_mid, x_hi, objective, steps=FREE_STEPS):
-    """Minimise ``objective(x)`` on [x_lo, x_hi] at many points at once by Brent's method (Brent
-    1973, Algorithms for Minimization without Derivatives, ch. 5): parabolic interpolation through
-    the three best points, a golden-section step where the parabola leaves the bracket or does not
-    shrink fast enough, never a step below the tolerance. The three given points seed it. The
-    objective returns one score per point and keeps the best sequence itself."""
+def _bracket_search(x_lo, x_mid, x_hi, objective, steps=FREE_STEPS, xtol=FREE_XTOL):
+    """Minimise ``objective(x, idx)`` on [x_lo, x_hi] at many points at once by Brent's method
+    (Brent 1973, Algorithms for Minimization without Derivatives, ch. 5): parabolic interpolation
+    through the three best points, a golden-section step where the parabola leaves the bracket or
+    does not shrink fast enough, never a step below the tolerance. The three given points seed it.
+    A point stops once its bracket is within ``xtol`` of its best point (Brent's test), so that
+    smooth minima cost a few evaluations and only kinks take all ``steps``. ``objective`` gets
+    the trial x of the points ``idx`` still running, returns one score each and keeps the best
+    sequence itself."""
     pts = [np.array(v, dtype=float) for v in (x_lo, x_mid, x_hi)]
-    vals = [objective(v) for v in pts]
+    every = np.arange(pts[0].size)
+    vals = [objective(v, every) for v in pts]
     a, b = pts[0].copy(), pts[2].copy()
     order = np.argsort(np.stack(vals), axis=0, kind="stable")
     P, V = np.stack(pts), np.stack(vals)
@@ -157,36 +163,47 @@ def _bracket_search(x_lo, x_mid, x_hi, objective, steps=FREE_STEPS):
     fx, fw, fv = (np.take_along_axis(V, order[i][None], 0)[0] for i in range(3))
     d = np.zeros_like(x)
     e = b - a  # lets the first step be parabolic
+    live = every
     for _ in range(steps):
-        m = 0.5 * (a + b)
-        tol1 = 1e-9 * np.abs(x) + 1e-12
-        r = (x - w) * (fx - fv)
-        q = (x - v) * (fx - fw)
-        p = (x - v) * q - (x - w) * r
+        tol1 = xtol * np.abs(x[live]) + xtol
+        m = 0.5 * (a[live] + b[live])
+        running = np.abs(x[live] - m) > 2 * tol1 - 0.5 * (b[live] - a[live])
+        live, tol1, m = live[running], tol1[running], m[running]
+        if live.size == 0:
+            break
+        xl, wl, vl, al, bl = x[live], w[live], v[live], a[live], b[live]
+        fxl, fwl, fvl, el, dl = fx[live], fw[live], fv[live], e[live], d[live]
+        r = (xl - wl) * (fxl - fvl)
+        q = (xl - vl) * (fxl - fwl)
+        p = (xl - vl) * q - (xl - wl) * r
         q = 2 * (q - r)
         p = np.where(q > 0, -p, p)
         q = np.abs(q)
         with np.errstate(divide="ignore", invalid="ignore"):
             step = p / q
-        parabolic = (np.abs(e) > tol1) & np.isfinite(step) & (np.abs(p) < np.abs(0.5 * q * e)) \
-            & (p > q * (a - x)) & (p < q * (b - x))
-        u = x + step
-        near_edge = (u - a < 2 * tol1) | (b - u < 2 * tol1)
-        step = np.where(parabolic & near_edge, np.where(m > x, tol1, -tol1), step)
-        e_gold = np.where(x >= m, a - x, b - x)
-        e = np.where(parabolic, d, e_gold)
-        d = np.where(parabolic, step, _GOLD * e_gold)
-        u = x + np.where(np.abs(d) >= tol1, d, np.where(d >= 0, tol1, -tol1))
-        fu = objective(u)
+        parabolic = (np.abs(el) > tol1) & np.isfinite(step) & (np.abs(p) < np.abs(0.5 * q * el)) \
+            & (p > q * (al - xl)) & (p < q * (bl - xl))
+        u = xl + step
+        near_edge = (u - al < 2 * tol1) | (bl - u < 2 * tol1)
+        step = np.where(parabolic & near_edge, np.where(m > xl, tol1, -tol1), step)
+        e_gold = np.where(xl >= m, al - xl, bl - xl)
+        e[live] = np.where(parabolic, dl, e_gold)
+        dl = np.where(parabolic, step, _GOLD * e_gold)
+        d[live] = dl
+        u = xl + np.where(np.abs(dl) >= tol1, dl, np.where(dl >= 0, tol1, -tol1))
+        fu = objective(u, live)
         fu = np.where(np.isnan(fu), np.inf, fu)
-        better = fu <= fx
-        a = np.where(better, np.where(u >= x, x, a), np.where(u < x, u, a))
-        b = np.where(better, np.where(u >= x, b, x), np.where(u < x, b, u))
-        second = ~better & ((fu <= fw) | (w == x))
-        third = ~better & ~second & ((fu <= fv) | (v == x) | (v == w))
-        v, fv = np.where(better | second, w, np.where(third, u, v)), np.where(better | second, fw, np.where(third, fu, fv))
-        w, fw = np.where(better, x, np.where(second, u, w)), np.where(better, fx, np.where(second, fu, fw))
-        x, fx = np.where(better, u, x), np.where(better, fu, fx)
+        better = fu <= fxl
+        a[live] = np.where(better, np.where(u >= xl, xl, al), np.where(u < xl, u, al))
+        b[live] = np.where(better, np.where(u >= xl, bl, xl), np.where(u < xl, bl, u))
+        second = ~better & ((fu <= fwl) | (wl == xl))
+        third = ~better & ~second & ((fu <= fvl) | (vl == xl) | (vl == wl))
+        v[live] = np.where(better | second, wl, np.where(third, u, vl))
+        fv[live] = np.where(better | second, fwl, np.where(third, fu, fvl))
+        w[live] = np.where(better, xl, np.where(second, u, wl))
+        fw[live] = np.where(better, fxl, np.where(second, fu, fwl))
+        x[live] = np.where(better, u, xl)
+        fx[live] = np.where(better, fu, fxl)
 
 
 def _free_interrogation(design, kind, f, best, ok):
@@ -237,12 +254,13 @@ def _free_interrogation(design, kind, f, best, ok):
                 continue
             p, dsub, n_p = pts[which], sub.take(which, j.size), nj[which]
 
-            def objective(x, p=p, dsub=dsub, n_p=n_p):
-                T = np.minimum(np.exp(x), hi_T[p])
-                parts = evaluate_free(dsub, kind, f[p], n_p, T)
+            def objective(x, live, p=p, dsub=dsub, n_p=n_p):
+                q = p[live]
+                T = np.minimum(np.exp(x), hi_T[q])
+                parts = evaluate_free(dsub.take(live, p.size), kind, f[q], n_p[live], T)
                 total = total_psd(parts)
                 total = np.where(np.isfinite(total), total, np.inf)
-                _keep_better(best, score, p, parts, total)
+                _keep_better(best, score, q, parts, total)
                 with np.errstate(divide="ignore"):
                     return np.log(total)  # parabolas fit the log of a budget spanning decades better
 

@@ -437,6 +437,9 @@ def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
     low = np.asarray(low, dtype=float)
     if alpha >= 1 and not np.all(np.isfinite(cutoff)):
         raise ValueError("a rising noise needs a finite cutoff")
+    if cutoff.ndim == 0 and low.ndim == 0 and not np.isfinite(cutoff) and not low > 0:
+        # the whole axis (a falling or white noise): the complete odd-harmonic sum, no edges
+        return (4 / np.pi**2) * f0**alpha * odd_harmonic_sum(2 - alpha), np.zeros(f0.shape)
     # a term covers [low, cutoff). A band edge takes a share of the lobe whose cell it falls in (see
     # _odd_sum_through; one half on the harmonic itself), so that terms meeting at a band edge (the
     # shot noise at the phase-lock bandwidth) partition the axis and the budget neither jumps nor
@@ -445,7 +448,8 @@ def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
         upper = np.maximum(cutoff / f0, 0.0)
         lower = np.where(low > 0, np.maximum(low / f0, 0.0), 0.0)
         lower = np.minimum(lower, upper)  # an empty band [low, cutoff) holds nothing
-    slope = (4 / np.pi**2) * f0**alpha * (_odd_sum_through(2 - alpha, upper) - _odd_sum_through(2 - alpha, lower))
+    below = _odd_sum_through(2 - alpha, lower) if low.ndim or low > 0 else 0.0
+    slope = (4 / np.pi**2) * f0**alpha * (_odd_sum_through(2 - alpha, upper) - below)
     if alpha == 2:
         # the pi/2-pulse plateau: integral_0^x f^2 |G|^2 df = (odd-harmonic lobes below x) + x / (2 pi^2)
         # once x has passed the first lobe (exact between lobes, by Parseval on g'), and about 0 below
