@@ -10,7 +10,11 @@ import math
 
 import astropy.units as u
 
-__all__ = ["parse_quantity", "parse_frequency"]
+__all__ = ["parse_quantity", "parse_frequency", "checked_frequency", "FREQUENCY_RANGE"]
+
+#: Frequencies a user may give anywhere (Hz): far beyond what any clock link can reach at both ends,
+#: but inside the floating-point range of every power law the noise model takes of them.
+FREQUENCY_RANGE = (1e-9, 1e6)
 
 
 def parse_quantity(value: object, unit: u.UnitBase | str, *, allow_plain: bool = False) -> u.Quantity:
@@ -77,3 +81,12 @@ def parse_quantity(value: object, unit: u.UnitBase | str, *, allow_plain: bool =
 def parse_frequency(value: object) -> float:
     """Parse a frequency given as a quantity ("10 mHz") or a plain number in Hz; returns Hz."""
     return float(parse_quantity(value, u.Hz, allow_plain=True).value)
+
+
+def checked_frequency(value: object) -> float:
+    """:func:`parse_frequency`, refused outside :data:`FREQUENCY_RANGE` (ValueError)."""
+    f = parse_frequency(value)
+    lo, hi = FREQUENCY_RANGE
+    if not lo <= f <= hi:
+        raise ValueError(f"expected a frequency from {lo:g} Hz to {hi:g} Hz")
+    return f

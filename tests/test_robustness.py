@@ -49,6 +49,26 @@ def test_envelope_is_finite_and_positive_everywhere(d):
     assert np.all(b.total > 0)
 
 
+custom_designs = st.builds(
+    lambda times, B, tpi: BASE.design().replace(kind="custom", pulse_times=tuple(sorted(times)),
+                                                phase_lock_bandwidth=B, pi_pulse_duration=tpi),
+    times=st.lists(st.floats(0.02, 0.98), min_size=1, max_size=6, unique=True).filter(
+        lambda t: np.min(np.diff(np.concatenate(([0.0], sorted(t), [1.0])))) > 0.01),
+    B=st.floats(0.1, 1e3), tpi=st.floats(1e-4, 1e-2),
+)
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(custom_designs)
+def test_custom_timings_give_finite_positive_noise(d):
+    # a PSD is finite and positive (definition); a band whose lower edge lies above its upper one
+    # (the shot noise's plateau when the phase lock is wider than the pulse bandwidth) holds nothing
+    b = envelope(d, np.geomspace(1e-4, 100, 40))
+    for arr in (b.total, *b.psd.values()):
+        assert np.all(np.isfinite(arr)) and np.all(arr >= 0)
+    assert np.all(b.total > 0)
+
+
 @settings(max_examples=30, deadline=None)
 @given(designs, st.floats(1e-3, 10))
 def test_windows_are_finite(d, f0):

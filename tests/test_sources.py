@@ -7,6 +7,8 @@ astropy's Planck18 cosmology; the published analytic models of the reference det
 evaluated at their formulas' values (computed independently with scipy/astropy).
 """
 
+import re
+
 import numpy as np
 import pytest
 from astropy import constants as const
@@ -104,6 +106,40 @@ def test_source_files(tmp_path):
     bad.write_text('[[source]]\nmass1 = 30\nmas2 = 30\nredshift = 1\n')
     with pytest.raises(InputError, match=r"source\[0\]\.mas2: unknown key; did you mean 'mass2'\?"):
         load_sources(bad)
+
+
+@pytest.mark.parametrize("name, text, fragment", [
+    ("dup.csv", "name,mass1,mass1,redshift\nx,1,2,1\n", "mass1: column given twice"),
+    ("long.csv", "name,mass1,mass2,redshift\nx,1e4,1e4,1,9\n", "source[0]: 5 values for 4 columns"),
+    ("short.csv", "name,mass1,mass2,redshift\nx,1e4\n", "source[0].mass2: required field is missing"),
+    ("bool.toml", '[[source]]\nmass1 = true\nmass2 = 30\nredshift = 1\n', "source[0].mass1: got True; expected a plain number"),
+    ("z0.toml", '[[source]]\nmass1 = 30\nmass2 = 30\nredshift = 0\n', "source[0].redshift: got 0; expected a number > 0"),
+    ("far.toml", '[[source]]\nmass1 = 30\nmass2 = 30\nredshift = 2000\n', "expected a redshift up to 1000"),
+    ("near.toml", '[[source]]\nmass1 = 30\nmass2 = 30\ndistance = "1e-300 m"\n', "expected a distance from 1 pc"),
+])
+def test_bad_source_files(tmp_path, name, text, fragment):
+    p = tmp_path / name
+    p.write_text(text)
+    with pytest.raises(InputError, match=re.escape(fragment)):
+        load_sources(p)
+
+
+def test_a_csv_with_a_byte_order_mark_and_a_source_at_one_parsec(tmp_path):
+    # a BOM is not part of the first key; below z = 1e-6 the redshift is the Hubble law's H0 D / c
+    # (Planck18 H0 = 67.66 km/s/Mpc, astropy)
+    p = tmp_path / "bom.csv"
+    p.write_bytes(b"\xef\xbb\xbfname,mass1,mass2,distance\nx,1,1,1 pc\n")
+    (x,) = load_sources(p)
+    expected = Planck18.H0.to_value("1/s") * 3.0856775814913673e16 / 299792458.0
+    assert x.name == "x" and x.redshift == pytest.approx(expected, rel=1e-9, abs=0)
+
+
+@pytest.mark.parametrize("value", ["-3", "0", "nan", "abc"])
+def test_a_user_curve_needs_a_positive_sky_factor(tmp_path, value):
+    p = tmp_path / "c.csv"
+    p.write_text(f"# convention: optimal orientation\n# sky_factor: {value}\nfrequency,asd\n1,1e-20\n10,1e-21\n")
+    with pytest.raises(InputError, match="sky_factor: got"):
+        user_curve(p)
 
 
 class TestReferences:

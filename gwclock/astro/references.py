@@ -278,7 +278,16 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
         raise InputError("declare the convention: 'sky-averaged' or 'optimal orientation' (table meta 'convention', or the convention argument)",
                          source=str(p), field="convention", value=conv)
     conv = SKY if conv.startswith("sky") else OPTIMAL
-    factor = 1.0 if conv == SKY else float(sky_factor or t.meta.get("sky_factor", 5 / 2))
+    factor = 1.0
+    if conv == OPTIMAL:
+        given = sky_factor if sky_factor is not None else t.meta.get("sky_factor", 5 / 2)
+        try:
+            factor = float(given)
+        except (TypeError, ValueError):
+            factor = np.nan
+        if not (np.isfinite(factor) and factor > 0):
+            raise InputError("expected a positive number (the sky average divides the response by it)",
+                             source=str(p), field="sky_factor", value=given)
     lf, ly = np.log(f), np.log(y)
 
     def psd(x):

@@ -24,7 +24,7 @@ from pathlib import Path
 import astropy.units as u
 import numpy as np
 
-from ..constants import DAY, MSUN, YEAR, G
+from ..constants import DAY, MSUN, PC, YEAR, G
 from ..constants import c as C
 from ..errors import InputError
 from ..files import read_toml, register_input
@@ -32,9 +32,12 @@ from ..quantities import parse_quantity
 
 __all__ = [
     "chirp_mass", "Inspiral", "Monochromatic", "redshift_at_distance", "distance_at_redshift",
-    "MARKS", "load_sources",
+    "MARKS", "load_sources", "Z_LIMIT",
 ]
 
+
+#: Redshifts a source may be given at (sources file and command line).
+Z_LIMIT = 1000.0
 
 #: Standard marks on a track: time before merger in s.
 MARKS = {"1 yr": YEAR, "1 month": YEAR / 12, "1 day": DAY, "1 hour": DAY / 24}
@@ -54,11 +57,14 @@ def distance_at_redshift(z):
 
 
 def redshift_at_distance(distance_m):
-    """Redshift at a luminosity distance in m (astropy Planck18, by root finding)."""
+    """Redshift at a luminosity distance in m (astropy Planck18, by root finding); below z = 1e-6
+    the Hubble law z = H0 D / c (its error is of order z)."""
     from astropy.cosmology import Planck18, z_at_value
     d = np.atleast_1d(np.asarray(distance_m, dtype=float))
-    z = np.array([0.0 if x <= 0 else float(z_at_value(Planck18.luminosity_distance, x * u.m,
-                                                      zmin=1e-9, zmax=1e4)) for x in d])
+    near = distance_at_redshift(1e-6)
+    hubble = Planck18.H0.to_value("1/s") / C
+    z = np.array([0.0 if x <= 0 else x * hubble if x < near else
+                  float(z_at_value(Planck18.luminosity_distance, x * u.m, zmin=1e-7, zmax=1e4)) for x in d])
     return z if np.ndim(distance_m) else float(z[0])
 
 
@@ -191,13 +197,21 @@ def load_sources(path):
             raise InputError("expected one or more [[source]] tables", source=str(p), field="source")
     elif p.suffix.lower() == ".csv":
         try:
-            with open(p, newline="") as fh:
-                rows = [{k.strip(): v.strip() for k, v in r.items() if v not in (None, "")}
-                        for r in csv.DictReader(line for line in fh if not line.startswith("#"))]
+            with open(p, newline="", encoding="utf-8-sig") as fh:  # a leading BOM is not part of a key
+                table = [r for r in csv.reader(line for line in fh if not line.startswith("#")) if r]
         except FileNotFoundError:
             raise InputError("source file not found", source=str(p)) from None
         except (OSError, UnicodeDecodeError) as exc:
             raise InputError(f"cannot read the source file ({exc})", source=str(p)) from None
+        header = [k.strip() for k in table[0]] if table else []
+        dup = sorted({k for k in header if header.count(k) > 1})
+        if dup:
+            raise InputError("column given twice", source=str(p), field=dup[0])
+        rows = []
+        for i, r in enumerate(table[1:]):
+            if len(r) > len(header):
+                raise InputError(f"{len(r)} values for {len(header)} columns", source=str(p), field=f"source[{i}]")
+            rows.append({k: v.strip() for k, v in zip(header, r) if v.strip()})
         if not rows:
             raise InputError("no source rows", source=str(p))
     else:
@@ -218,6 +232,8 @@ def load_sources(path):
 
         def num(key, lo=0.0, row=row, where=where):
             try:
+                if isinstance(row[key], bool):  # TOML true is not the number 1
+                    raise TypeError
                 x = float(row[key])
             except KeyError:
                 raise InputError("required field is missing", source=str(p), field=f"{where}.{key}") from None
@@ -250,9 +266,14 @@ def load_sources(path):
                 raise InputError("give exactly one of distance and redshift", source=str(p), field=where)
             if "distance" in row:
                 d = qty("distance", "m")
-                if d <= 0:
-                    raise InputError("expected a positive distance", source=str(p), field=f"{where}.distance")
+                if not PC <= d <= distance_at_redshift(Z_LIMIT):
+                    raise InputError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}",
+                                     source=str(p), field=f"{where}.distance", value=row["distance"])
                 out.append(Inspiral.from_masses(m1, m2, distance=d, name=name))
             else:
-                out.append(Inspiral.from_masses(m1, m2, redshift=num("redshift", lo=-1e-300), name=name))
+                z = num("redshift")
+                if z > Z_LIMIT:
+                    raise InputError(f"expected a redshift up to {Z_LIMIT:g}", source=str(p), field=f"{where}.redshift",
+                                     value=row["redshift"])
+                out.append(Inspiral.from_masses(m1, m2, redshift=z, name=name))
     return out

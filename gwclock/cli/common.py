@@ -17,7 +17,7 @@ from ..errors import InputError
 from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
 from ..outputs.plotting import save_figure
 from ..outputs.tables import write_table
-from ..quantities import parse_frequency, parse_quantity
+from ..quantities import checked_frequency, parse_quantity
 from ..version import __version__
 
 __all__ = ["Parser", "mission_arg", "grid_args", "output_args", "frequency", "grid", "tuned", "quantity", "number", "check_outputs",
@@ -55,14 +55,11 @@ def output_args(sp, plot=True):
 
 
 def frequency(text, option):
-    """A positive frequency given as text ("5 mHz", or plain Hz)."""
+    """A frequency given as text ("5 mHz", or plain Hz), inside the range any input may take."""
     try:
-        value = parse_frequency(text)
+        return checked_frequency(text)
     except ValueError as exc:
         raise InputError(str(exc), source="command line", field=option, value=text) from None
-    if value <= 0:
-        raise InputError("expected a positive frequency", source="command line", field=option, value=text)
-    return value
 
 
 def grid(args):

@@ -8,14 +8,14 @@ import numpy as np
 from astropy.table import Table
 
 from ..astro.references import CONFUSION_PARAMETERS, DEFAULT_COMPARISON, REFERENCES, TABULATED_ONLY, user_curve
-from ..astro.sources import MARKS, Inspiral, Monochromatic, load_sources
+from ..astro.sources import MARKS, Z_LIMIT, Inspiral, Monochromatic, distance_at_redshift, load_sources
 from ..config.mission import load_mission
-from ..constants import MPC, MSUN, YEAR
+from ..constants import MPC, MSUN, PC, YEAR
 from ..engine import envelope
 from ..errors import InputError
 from ..outputs.plotting import plot_lines
 from ..outputs.tables import Column, provenance, reference_table, snr_table, track_table
-from ..quantities import parse_frequency
+from ..quantities import checked_frequency
 from ..studies import background as bg
 from ..studies.horizon import MEASURE_LABELS, MEASURES, Z_MAX, horizon
 from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
@@ -65,8 +65,14 @@ def _source_from_args(args):
         raise InputError("give exactly one of --distance and --redshift", source="command line")
     if args.distance is not None:
         d = quantity(args.distance, "m", "--distance")
+        if not PC <= d <= distance_at_redshift(Z_LIMIT):
+            raise InputError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}", source="command line",
+                             field="--distance", value=args.distance)
         return [Inspiral.from_masses(m1, m2, distance=d, name=f"{m1:g}+{m2:g} Msun at {d / MPC:.4g} Mpc")]
     z = number(args.redshift, "--redshift")
+    if not 0 < z <= Z_LIMIT:
+        raise InputError(f"expected a redshift above 0 and up to {Z_LIMIT:g}", source="command line",
+                         field="--redshift", value=args.redshift)
     return [Inspiral.from_masses(m1, m2, redshift=z, name=f"{m1:g}+{m2:g} Msun at z = {z:g}")]
 
 
@@ -275,11 +281,12 @@ def _extend(f, values, mask):
 def _scan(text):
     parts = (text or "").split(":")
     try:
-        lo, hi, steps = parse_frequency(parts[0]), parse_frequency(parts[1]), int(parts[2])
+        lo, hi, steps = checked_frequency(parts[0]), checked_frequency(parts[1]), int(parts[2])
     except (IndexError, ValueError):
         raise InputError("expected F1:F2:COUNT, e.g. '5 mHz:5 Hz:12'", source="command line", field="--scan", value=text) from None
-    if not (0 < lo < hi) or steps < 1:
-        raise InputError("expected 0 < F1 < F2 and COUNT >= 1", source="command line", field="--scan", value=text)
+    if not (0 < lo < hi) or not 1 <= steps <= 10_000:
+        raise InputError("expected 0 < F1 < F2 and 1 <= COUNT <= 10000", source="command line", field="--scan",
+                         value=text)
     return lo, hi, steps
 
 

@@ -70,7 +70,7 @@ class Link(_Section):
     transmit_aperture: _quantity("m", 0, 100, lo_open=True) = Field("0.3 m", description="transmit telescope diameter")
     receive_aperture: _quantity("m", 0, 100, lo_open=True) = Field("0.3 m", description="receive telescope diameter")
     optical_efficiency: _number(1e-12, 1.0) = Field(0.3, description="end-to-end power efficiency (0-1]")
-    phase_lock_bandwidth: _quantity("Hz", 0, 1e9, lo_open=True) = Field("10 Hz", description="noise bandwidth of the receiver phase lock")
+    phase_lock_bandwidth: _quantity("Hz", 1e-6, 1e9) = Field("10 Hz", description="noise bandwidth of the receiver phase lock")
     timing_mismatch: _quantity("s", 0, 1.0) = Field("1 us", description="synchronisation error of the two clocks' interrogations")
     path: Literal["one-way", "two-way"] = Field("one-way", description="one-way link, or round trip through a transponder")
 

@@ -8,6 +8,7 @@ chunk.
 
 from __future__ import annotations
 
+import difflib
 import re
 from dataclasses import dataclass
 
@@ -20,7 +21,7 @@ from ..config.mission import validation_error
 from ..engine.batch import batch_budget
 from ..engine.budget import SPAN, band_below
 from ..errors import InputError
-from ..quantities import parse_frequency, parse_quantity
+from ..quantities import checked_frequency, parse_quantity
 from .horizon import horizon
 from .snr import SCHEDULES, TunedCurve, clock_snr
 
@@ -43,8 +44,13 @@ def field_unit(mission, field, source="study specification"):
     """Unit of a numeric mission field as written in its values ("" for plain numbers)."""
     node = mission
     for part in field.split("."):
-        if not hasattr(node, part):
-            raise InputError("no such mission field", source=source, field=field)
+        # fields of the file's sections only (a derived property such as mission.coherence_time is not one)
+        if part not in getattr(type(node), "model_fields", {}):
+            names = sorted(f"{s}.{k}" for s, sec in type(mission).model_fields.items()
+                           for k in getattr(sec.annotation, "model_fields", {}))
+            close = difflib.get_close_matches(field, names, n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else "; expected SECTION.FIELD as in the mission file"
+            raise InputError(f"no such mission field{hint}", source=source, field=field)
         node = getattr(node, part)
     if isinstance(node, u.Quantity):
         return node.unit.to_string()
@@ -80,6 +86,8 @@ def parse_vary(text, mission, source="study specification", option="vary") -> Ax
             lo, hi = float(parts[0]), float(parts[1])
     except ValueError as exc:
         raise InputError(str(exc), source=source, field=f"{option} {field}", value=rest) from None
+    if not (np.isfinite(lo) and np.isfinite(hi)):
+        raise InputError("expected finite ends", source=source, field=f"{option} {field}", value=rest)
     log = len(parts) == 4 and parts[3] == "log"
     if log and (lo <= 0 or hi <= 0):
         raise InputError("a log axis needs positive ends", source=source, field=f"{option} {field}", value=rest)
@@ -104,10 +112,10 @@ def parse_metric(text, source="study specification", option="metric") -> Metric:
     t = (text or "").strip()
     try:
         if t.startswith("asd@"):
-            f = parse_frequency(t[4:])
+            f = checked_frequency(t[4:])
             return Metric(t, "asd", f, (f"asd@{f:g}Hz",), ("Hz(-1/2)",))
         if t.startswith("power_needed@"):
-            f = parse_frequency(t[13:])
+            f = checked_frequency(t[13:])
             return Metric(t, "power", f, (f"power_needed@{f:g}Hz",), ("W",))
         if t.startswith("band@"):
             level = float(t[5:])

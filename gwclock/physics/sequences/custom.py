@@ -103,7 +103,8 @@ class Custom:
     def noise_integral(self, design, term, f0, n, T):
         T = np.asarray(T, dtype=float)
         unit = self.unit(design)
-        inner = unit.moment(term.alpha, term.cutoff * T) - unit.moment(term.alpha, term.low * T)
+        low = np.minimum(term.low, term.cutoff)  # an empty band [low, cutoff) holds nothing
+        inner = unit.moment(term.alpha, term.cutoff * T) - unit.moment(term.alpha, low * T)
         return term.level * T ** (1.0 - term.alpha) * inner
 
     aliased = Periodic.aliased
