@@ -444,7 +444,8 @@ class TestFreeInterrogation:
         free, ok = optimise(d, f)
         locked, _ = optimise(d, f, locked=True)
         assert ok.all()
-        np.testing.assert_allclose(free["interrogation"], 2 * y / (np.pi * f), rtol=1e-6, atol=0)
+        # the minimum is flat (quadratic): T within 1e-4 already puts the budget within 1e-9
+        np.testing.assert_allclose(free["interrogation"], 2 * y / (np.pi * f), rtol=1e-4, atol=0)
         np.testing.assert_allclose(locked["interrogation"], 1 / (2 * f), rtol=1e-12, atol=0)
         np.testing.assert_allclose(free["projection"] / locked["projection"], y / np.sin(y) ** 4 / np.pi, rtol=1e-9, atol=0)
 

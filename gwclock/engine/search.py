@@ -32,7 +32,8 @@ RAMSEY_POLISH = 1.25
 RAMSEY_LADDER = 24
 #: Most steps of the bracketed parabolic search over a free interrogation time (one evaluation each).
 FREE_STEPS = 16
-#: Its tolerance in ln T (relative and absolute): a kink of slope 0.1 in ln S then costs 1e-6.
+#: Its tolerance, a fraction of the first bracket in ln T: a kink of slope 0.1 in ln S then costs
+#: about 1e-6 on the widest (one-pulse) bracket.
 FREE_XTOL = 1e-5
 _GOLD = (3 - np.sqrt(5)) / 2
 
@@ -149,7 +150,8 @@ def _bracket_search(x_lo, x_mid, x_hi, objective, steps=FREE_STEPS, xtol=FREE_XT
     (Brent 1973, Algorithms for Minimization without Derivatives, ch. 5): parabolic interpolation
     through the three best points, a golden-section step where the parabola leaves the bracket or
     does not shrink fast enough, never a step below the tolerance. The three given points seed it.
-    A point stops once its bracket is within ``xtol`` of its best point (Brent's test), so that
+    A point stops once its bracket is within ``xtol`` times its first width of its best point
+    (Brent's test), so that
     smooth minima cost a few evaluations and only kinks take all ``steps``. ``objective`` gets
     the trial x of the points ``idx`` still running, returns one score each and keeps the best
     sequence itself."""
@@ -163,9 +165,10 @@ def _bracket_search(x_lo, x_mid, x_hi, objective, steps=FREE_STEPS, xtol=FREE_XT
     fx, fw, fv = (np.take_along_axis(V, order[i][None], 0)[0] for i in range(3))
     d = np.zeros_like(x)
     e = b - a  # lets the first step be parabolic
+    scale = xtol * (b - a) + 1e-300  # the tolerance scales with the bracket: the response of n pulses narrows as 1/n
     live = every
     for _ in range(steps):
-        tol1 = xtol * np.abs(x[live]) + xtol
+        tol1 = scale[live]
         m = 0.5 * (a[live] + b[live])
         running = np.abs(x[live] - m) > 2 * tol1 - 0.5 * (b[live] - a[live])
         live, tol1, m = live[running], tol1[running], m[running]
@@ -474,10 +477,11 @@ def _refine_ramsey(design, f0, best, ok):
         room = a < b
         idx, a, b, T1 = idx[room], a[room], b[room], T1[room]
         if idx.size:
-            def objective(x, idx=idx):
-                parts, total = trial(idx, np.exp(x))
+            def objective(x, live, idx=idx):
+                q = idx[live]
+                parts, total = trial(q, np.exp(x))
                 total = np.where(np.isfinite(total), total, np.inf)
-                _keep_better(best, score, idx, parts, total)
+                _keep_better(best, score, q, parts, total)
                 with np.errstate(divide="ignore"):
                     return np.log(total)
 
