@@ -23,6 +23,8 @@ __all__ = ["TABLE_FORMATS", "FIGURE_FORMATS", "register_input", "is_input", "che
 TABLE_FORMATS = {".ecsv": "ascii.ecsv", ".csv": "ascii.csv"}
 #: Figure suffixes matplotlib writes.
 FIGURE_FORMATS = (".png", ".pdf", ".svg")
+#: Largest input file read (mission, figure spec, source list): bigger ones are refused.
+MAX_INPUT_BYTES = 16 * 2**20
 
 _INPUTS: set[Path] = set()
 
@@ -58,6 +60,8 @@ def check_output_path(path, kinds) -> Path:
     """Refuse an output path whose folder is missing, whose suffix is not one of ``kinds``, or
     that names one of the run's input files."""
     p = Path(path)
+    if len(p.name.encode()) > 255:
+        raise InputError("file name longer than 255 bytes", source="command line", field=p.name[:40] + "...")
     if is_input(p):
         raise InputError("is one of this run's input files; choose another output name",
                          source="command line", field=str(p))
@@ -69,6 +73,13 @@ def check_output_path(path, kinds) -> Path:
         raise InputError("the output folder does not exist", source="command line", field=str(p))
     if p.is_dir():
         raise InputError("is a folder; expected a file name", source="command line", field=str(p))
+    try:  # find an unwritable folder now, not after the work
+        fd, probe = tempfile.mkstemp(prefix=".gwclock-probe.", dir=parent)
+        os.close(fd)
+        os.unlink(probe)
+    except OSError as exc:
+        raise InputError(f"cannot write in the output folder ({exc.strerror})", source="command line",
+                         field=str(p)) from None
     return p
 
 
@@ -82,7 +93,8 @@ class atomic_path:
         self.target = Path(target)
 
     def __enter__(self) -> Path:
-        fd, name = tempfile.mkstemp(prefix=f".{self.target.name}.", suffix=f".part{self.target.suffix}",
+        # a short temporary name: the target's own may already be near the 255-byte limit
+        fd, name = tempfile.mkstemp(prefix=f".{self.target.stem[:40]}.", suffix=f".part{self.target.suffix}",
                                     dir=self.target.parent if str(self.target.parent) else ".")
         os.close(fd)
         # mkstemp makes the file private (0600); an output gets the permissions of any new file
@@ -109,13 +121,16 @@ def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
     p = Path(path)
     register_input(p)
     try:
-        raw = p.read_bytes()
+        with open(p, "rb") as fh:  # a bounded read: /dev/zero or a huge file is refused, not swallowed
+            raw = fh.read(MAX_INPUT_BYTES + 1)
     except FileNotFoundError:
         raise InputError(f"{what} not found", source=str(p)) from None
     except IsADirectoryError:
         raise InputError(f"expected a {what}, found a folder", source=str(p)) from None
     except OSError as exc:
         raise InputError(f"cannot read the {what} ({exc.strerror})", source=str(p)) from None
+    if len(raw) > MAX_INPUT_BYTES:
+        raise InputError(f"larger than {MAX_INPUT_BYTES // 2**20} MiB; expected a small TOML file", source=str(p))
     try:
         text = raw.decode("utf-8")
         return tomllib.loads(text), raw
@@ -123,3 +138,5 @@ def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
         raise InputError("not UTF-8 text; expected a TOML file", source=str(p)) from None
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"TOML syntax error: {exc}", source=str(p)) from None
+    except RecursionError:
+        raise InputError("nested too deeply; expected a TOML file of tables and values", source=str(p)) from None

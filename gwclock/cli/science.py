@@ -19,7 +19,7 @@ from ..quantities import checked_frequency
 from ..studies import background as bg
 from ..studies.horizon import MEASURE_LABELS, MEASURES, Z_MAX, horizon
 from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
-from .common import check_outputs, grid, grid_args, mission_arg, number, output_args, quantity, save_plot, save_table, tuned
+from .common import check_outputs, frequency, grid, grid_args, mission_arg, number, output_args, quantity, save_plot, save_table, tuned
 
 __all__ = ["add_commands"]
 
@@ -118,9 +118,11 @@ def cmd_reference(args):
 
 def cmd_track(args):
     (src,) = _source_from_args(args)
-    fmin, fmax = quantity(args.fmin, "Hz", "--fmin"), quantity(args.fmax, "Hz", "--fmax")
+    fmin, fmax = frequency(args.fmin, "--fmin"), frequency(args.fmax, "--fmax")
     if fmin >= fmax:
         raise InputError("--fmin must be below --fmax", source="command line")
+    if not 2 <= args.points <= 1_000_000:
+        raise InputError("expected between 2 and 1e6 points", source="command line", field="--points", value=args.points)
     check_outputs(args)
     try:
         tau, f, hc = src.track(fmin, fmax, args.points)

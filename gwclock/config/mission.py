@@ -66,9 +66,9 @@ class Link(_Section):
     """[link]: the optical link between the two spacecraft."""
 
     baseline: _quantity("m", 1e6, 1e13) = Field(description="one-way distance between the spacecraft")
-    transmit_power: _quantity("W", 0, 1e4, lo_open=True) = Field(description="laser power sent into the telescope")
-    transmit_aperture: _quantity("m", 0, 100, lo_open=True) = Field("0.3 m", description="transmit telescope diameter")
-    receive_aperture: _quantity("m", 0, 100, lo_open=True) = Field("0.3 m", description="receive telescope diameter")
+    transmit_power: _quantity("W", 1e-15, 1e4) = Field(description="laser power sent into the telescope")
+    transmit_aperture: _quantity("m", 1e-3, 100) = Field("0.3 m", description="transmit telescope diameter")
+    receive_aperture: _quantity("m", 1e-3, 100) = Field("0.3 m", description="receive telescope diameter")
     optical_efficiency: _number(1e-12, 1.0) = Field(0.3, description="end-to-end power efficiency (0-1]")
     phase_lock_bandwidth: _quantity("Hz", 1e-6, 1e9) = Field("10 Hz", description="noise bandwidth of the receiver phase lock")
     timing_mismatch: _quantity("s", 0, 1.0) = Field("1 us", description="synchronisation error of the two clocks' interrogations")
@@ -83,7 +83,7 @@ class Clock(_Section):
     coherence_time: _quantity("s", 1e-3, 1e5) | None = Field(None, description="atomic coherence time (default: species lifetime)")
     dead_time: _quantity("s", 0, 1e5) = Field("1 s", description="preparation and read-out time per cycle")
     squeezing_db: _number(0, 20) = Field(0.0, description="metrological squeezing gain in dB")
-    pi_pulse_duration: _quantity("s", 0, 1e3, lo_open=True) = Field("10 ms", description="duration of one pi pulse")
+    pi_pulse_duration: _quantity("s", 1e-9, 1e3) = Field("10 ms", description="duration of one pi pulse")
     pulse_error: _number(0, 0.5) = Field(1e-4, description="fractional contrast loss per pi pulse")
 
     @model_validator(mode="after")
