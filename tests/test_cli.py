@@ -6,6 +6,7 @@ elsewhere; here the numbers must be finite and carry the right units.
 
 import subprocess
 import sys
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -92,6 +93,9 @@ def test_species_and_cite_and_version(capsys):
     (["curve", "--table", "no/such/dir/t.ecsv"], "the output folder does not exist"),
     (["curve", "--table", "t.txt"], "unsupported file type '.txt'"),
     (["curve", "--plot", "f.jpg"], "unsupported file type '.jpg'"),
+    (["curve", "--table", "x" * 260 + ".ecsv"], "file name longer than 255 bytes"),
+    (["curve", "--table", "/proc/t.ecsv"], "cannot write in the output folder"),
+    (["track", "--mass1", "30", "--mass2", "30", "--redshift", "0.1", "--points", "0"], "--points: got 0"),
     (["window"], "required: --tune"),
     (["window", "--tune", "200 Hz"], "outside the band"),
     (["bogus"], "invalid choice"),
@@ -103,6 +107,26 @@ def test_bad_command_lines(tmp_path, monkeypatch, capsys, argv, fragment):
     assert fragment in err
     assert err.count("\n") == 1 and "Traceback" not in err
     assert list(tmp_path.iterdir()) == []  # no output file created
+
+
+@pytest.mark.parametrize("name, content, fragment", [
+    ("deep.toml", "a = " + "[" * 3000 + "]" * 3000 + "\n", "nested too deeply"),
+    ("big.toml", "# " + "x" * (17 * 2**20) + "\n", "larger than 16 MiB"),
+    ("power.toml", None, "link.transmit_power: got '5e-324 W'; expected a value >= 1e-15 W"),
+    ("aperture.toml", None, "link.transmit_aperture: got '1e-300 m'; expected a value >= 0.001 m"),
+])
+def test_hostile_mission_files_get_one_line(tmp_path, capsys, name, content, fragment):
+    p = tmp_path / name
+    if content is None:
+        text = (Path(__file__).parents[1] / "gwclock" / "data" / "default.toml").read_text()
+        text = text.replace('transmit_power = "1 W"', 'transmit_power = "5e-324 W"') if name == "power.toml" else \
+            text.replace('transmit_aperture = "0.4 m"', 'transmit_aperture = "1e-300 m"')
+        p.write_text(text)
+    else:
+        p.write_text(content)
+    code, _, err = run(["curve", p, "--table", tmp_path / "t.ecsv"], capsys)
+    assert code == 2 and fragment in err and err.count("\n") == 1
+    assert not (tmp_path / "t.ecsv").exists()
 
 
 def test_failure_keeps_an_existing_output(tmp_path, capsys):
