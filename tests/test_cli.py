@@ -315,6 +315,8 @@ class TestEntryPoint:
     def test_debug_shows_the_exception(self):
         with pytest.raises(InputError):
             main(["--debug", "curve", "--points", "1"])
+        with pytest.raises(InputError):  # also after the command
+            main(["curve", "--points", "1", "--debug"])
 
     def test_an_interruption_exits_130(self, capsys, monkeypatch):
         from gwclock.cli import design

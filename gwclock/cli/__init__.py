@@ -69,6 +69,7 @@ def main(argv=None) -> int:
     """Run the command line; returns the exit code."""
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
+    argv = [a for a in argv if a != "--debug"]  # taken anywhere, before or after the command
     STOP.clear()  # a new run
     _stop_politely_on_sigterm()
     try:
