@@ -87,7 +87,10 @@ def tuned(mission, text, option="--tune"):
 def quantity(text, unit, option, positive=True):
     """A value with units given as text, as a float in ``unit`` (plain numbers allowed for Hz, solMass)."""
     try:
-        v = float(parse_quantity(text, unit, allow_plain=unit in ("Hz", "solMass")).value)
+        if str(text).strip() in ("0", "-0", "0.0"):
+            v = 0.0  # zero needs no unit: say what is wrong with it instead
+        else:
+            v = float(parse_quantity(text, unit, allow_plain=unit in ("Hz", "solMass")).value)
     except ValueError as exc:
         raise InputError(str(exc), source="command line", field=option, value=text) from None
     if positive and v <= 0:

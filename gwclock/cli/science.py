@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import difflib
 from pathlib import Path
 
 import numpy as np
@@ -26,7 +27,7 @@ __all__ = ["add_commands"]
 DEFAULT_MASSES = [10, 30, 100, 300, 1e3, 3e3, 1e4, 3e4, 1e5, 3e5, 1e6]
 
 
-def _references(names, confusion=None):
+def _references(names, confusion=None, field="--against"):
     out = []
     for name in names:
         if name.lower() in REFERENCES:
@@ -34,9 +35,14 @@ def _references(names, confusion=None):
             out.append((ref, ref.options_for(confusion)))
         elif Path(name).suffix.lower() in (".csv", ".ecsv"):
             out.append((user_curve(name), {}))
+        elif Path(name).suffix.lower() == ".toml":
+            raise InputError("a mission file after --against is taken as a reference; give the mission before "
+                             "--against", source="command line", field=field, value=name)
         else:
-            raise InputError(f"unknown reference; expected one of {', '.join(REFERENCES)} or a .csv/.ecsv curve file",
-                             source="command line", field="--against", value=name)
+            close = difflib.get_close_matches(name.lower(), list(REFERENCES), n=1)
+            hint = f"did you mean {close[0]!r}? " if close else ""
+            raise InputError(f"unknown reference; {hint}expected one of {', '.join(REFERENCES)} or a .csv/.ecsv "
+                             "curve file", source="command line", field=field, value=name)
     return out
 
 
@@ -93,7 +99,7 @@ def cmd_references(args):
 
 
 def cmd_reference(args):
-    (ref, opts), = _references([args.name], _confusion(args))
+    (ref, opts), = _references([args.name], _confusion(args), field="NAME")
     # a published fit holds in its band only: the grid defaults to it and may not leave it
     args.fmin = args.fmin or f"{ref.band[0]!r} Hz"
     args.fmax = args.fmax or f"{ref.band[1]!r} Hz"

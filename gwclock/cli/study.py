@@ -72,8 +72,12 @@ def _workers(args):
         raise InputError("expected between 1 and 256 workers", source="command line", field="--workers", value=args.workers)
     if args.scheduler and args.workers > 1:
         raise InputError("use either --workers or --scheduler", source="command line")
-    if args.samples < 2:
-        raise InputError("expected at least 2 samples", source="command line", field="--samples", value=args.samples)
+    if not 2 <= args.samples <= 100_000:
+        raise InputError("expected between 2 and 1e5 samples", source="command line", field="--samples",
+                         value=args.samples)
+    if not 0 <= args.seed < 2**63:
+        raise InputError("expected a whole number from 0 to 2^63 - 1", source="command line", field="--seed",
+                         value=args.seed)
 
 
 def cmd_scan(args):

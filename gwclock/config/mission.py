@@ -46,6 +46,19 @@ def _quantity(unit: str, lo: float | None = None, hi: float | None = None, *, lo
     return Annotated[u.Quantity, BeforeValidator(parse)]
 
 
+def _tuning(value: Any):
+    """``sequence.tune``: "auto", or a frequency with a unit above 0 and up to 1 MHz."""
+    if isinstance(value, str) and value.strip() == "auto":
+        return "auto"
+    try:
+        q = parse_quantity(value, "Hz")
+    except ValueError as exc:
+        raise ValueError(f"expected 'auto' or a frequency such as '0.1 Hz' ({exc})") from None
+    if not 0 < float(q.value) <= 1e6:
+        raise ValueError("expected 'auto' or a frequency above 0 Hz and up to 1e+06 Hz")
+    return q
+
+
 def _number(lo: float, hi: float, *, integer_like: bool = False):
     def parse(value: Any) -> float:
         if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -117,16 +130,9 @@ class Sequence(_Section):
 
     kind: Literal[KINDS] = Field("cpmg", description="sequence family")
     max_interrogation: _quantity("s", 1e-3, 1e6) | None = Field(None, description="longest interrogation allowed (default: 3 coherence times)")
-    tune: Literal["auto"] | _quantity("Hz", 0, 1e6, lo_open=True) = Field("auto", description="fixed tuning frequency, or auto")
+    tune: Annotated[Literal["auto"] | u.Quantity, BeforeValidator(_tuning)] = Field("auto", description="fixed tuning frequency, or auto")
     comparison: Literal["linear", "correlated", "auto"] = Field("auto", description="two-clock read-out")
     pulse_times: tuple[float, ...] | None = Field(None, description="custom only: pi-pulse centres as fractions of the interrogation")
-
-    @model_validator(mode="before")
-    @classmethod
-    def _tune_text(cls, data):
-        if isinstance(data, dict) and isinstance(data.get("tune"), str) and data["tune"].strip() == "auto":
-            data = dict(data, tune="auto")
-        return data
 
     @model_validator(mode="after")
     def _custom_times(self):
