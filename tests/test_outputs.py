@@ -9,6 +9,7 @@ import re
 import shutil
 import subprocess
 import zlib
+from pathlib import Path
 
 import pytest
 
@@ -164,6 +165,19 @@ def test_report_for_every_mission_is_self_contained(tmp_path, capsys, path):
     assert "http://" not in html and "https://" not in html
     assert "Concept-study estimate" in html and "Best strain ASD" in html
     assert html.count("<img") == 3
+
+
+def test_a_mission_name_is_text_in_the_report(tmp_path, capsys):
+    # user text never becomes live HTML, in the Markdown or in the HTML (common practice, no source)
+    text = (Path(__file__).parents[1] / "gwclock" / "data" / "default.toml").read_text()
+    m = tmp_path / "m.toml"
+    m.write_text(text.replace('name = "Lodestar reference"', 'name = "<script>alert(1)</script> & co"'))
+    assert main(["report", "--out", str(tmp_path / "rep"), str(m)]) == 0
+    md = (tmp_path / "rep" / "report.md").read_text()
+    page = (tmp_path / "rep" / "report.html").read_text()
+    prose = re.sub(r"```.*?```", "", md, flags=re.S)  # a fenced block is shown as it is, never run
+    assert "<script>" not in prose and "&lt;script&gt;alert(1)&lt;/script&gt; &amp; co" in prose
+    assert "<script>" not in page and "&lt;script&gt;alert(1)&lt;/script&gt; &amp; co" in page
 
 
 def test_report_opens_in_headless_chromium(tmp_path):

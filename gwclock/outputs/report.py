@@ -135,12 +135,13 @@ def build_report(mission, digest, out_dir):
 
     params = describe_mission(mission, digest)
     ref_labels = [get_reference(k).network_label for k in DEFAULT_COMPARISON]
-    md = [f"# {mission.name}: clock-link sensitivity report", "",
+    name = html.escape(mission.name)  # user text in Markdown: no live HTML (a viewer would run a <script>)
+    md = [f"# {name}: clock-link sensitivity report", "",
           f"*Concept-study estimate* produced by gwclock {__version__} on {meta['created']} from a mission file with "
           f"SHA-256 `{digest}`. The sensitivity is sky-averaged (normalisation of Robson, Cornish & Liu 2019) and "
           "rests on the model assumptions listed in the gwclock README.", ""]
     if mission.description:
-        md += [mission.description, ""]
+        md += [html.escape(mission.description), ""]
     md += ["## Key numbers", "",
            f"* Best strain ASD: **{asd[i]:.3e} Hz^-1/2** at **{f[i]:.4g} Hz** (tuned envelope: each frequency at its own "
            "tuning; no single tuning reaches the whole curve).",
@@ -155,7 +156,7 @@ def build_report(mission, digest, out_dir):
     md += ["", "## SNR of standard sources", "",
            f"Observing time {design.duration / 3.15576e7:.3g} yr; clock schedule `track` (retuned every 600 s); "
            "sky-, polarisation- and inclination-averaged.", "",
-           "| source | " + mission.name + " | " + " | ".join(ref_labels) + " |",
+           "| source | " + name + " | " + " | ".join(ref_labels) + " |",
            "|---|" + "---|" * (1 + len(ref_labels))]
     md += ["| " + " | ".join([r[0]] + [fmt(x) for x in r[1:]]) + " |" for r in snrs]
     md += ["", "## Sky-averaged distance at SNR 8 (RMS over sky, polarisation and inclination; equal masses, "
@@ -175,7 +176,7 @@ def build_report(mission, digest, out_dir):
 
 
 def _inline(text):
-    t = html.escape(text)
+    t = html.escape(html.unescape(text))  # the Markdown's own escapes are not escaped twice
     t = re.sub(r"\*\*(.+?)\*\*", r"<strong>\1</strong>", t)
     t = re.sub(r"\*(.+?)\*", r"<em>\1</em>", t)
     t = re.sub(r"`(.+?)`", r"<code>\1</code>", t)
