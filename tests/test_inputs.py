@@ -66,7 +66,7 @@ def test_curve_in_mhz_and_psd_interpolates_a_power_law_exactly(tmp_path):
     ("[[source]]\nmass1 = 'ten'\nmass2 = 10\nredshift = 1\n", "plain number"),
     ("[[source]]\nmass1 = -3\nmass2 = 10\nredshift = 1\n", "> 0"),
     ("[[source]]\nmass1 = 10\nmass2 = 10\nredshift = 1\nspin = 0.5\n", "unknown key"),
-    ("[[source]]\nmass1 = 10\nmass2 = 10\ndistance = '-1 Mpc'\n", "positive distance"),
+    ("[[source]]\nmass1 = 10\nmass2 = 10\ndistance = '-1 Mpc'\n", "expected a distance from 1 pc"),
     ("[[source]]\nfrequency = '-3 mHz'\nh0 = 1e-22\n", "positive frequency"),
     ("[[source]]\nfrequency = '3 m'\nh0 = 1e-22\n", "frequency"),
     ("[[source]]\nfrequency = '3 mHz'\n", "mass1"),

@@ -437,9 +437,11 @@ def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
     low = np.asarray(low, dtype=float)
     if alpha >= 1 and not np.all(np.isfinite(cutoff)):
         raise ValueError("a rising noise needs a finite cutoff")
+    s = 2 - alpha  # lobe k carries 4 T / (pi^2 k^2) of |G|^2 and k^alpha f0^alpha of the noise
+    scale = (4 / np.pi**2) * f0**alpha
     if cutoff.ndim == 0 and low.ndim == 0 and not np.isfinite(cutoff) and not low > 0:
         # the whole axis (a falling or white noise): the complete odd-harmonic sum, no edges
-        return (4 / np.pi**2) * f0**alpha * odd_harmonic_sum(2 - alpha), np.zeros(f0.shape)
+        return scale * odd_harmonic_sum(s), np.zeros(f0.shape)
     # a term covers [low, cutoff). A band edge takes a share of the lobe whose cell it falls in (see
     # _odd_sum_through; one half on the harmonic itself), so that terms meeting at a band edge (the
     # shot noise at the phase-lock bandwidth) partition the axis and the budget neither jumps nor
@@ -448,8 +450,8 @@ def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
         upper = np.maximum(cutoff / f0, 0.0)
         lower = np.where(low > 0, np.maximum(low / f0, 0.0), 0.0)
         lower = np.minimum(lower, upper)  # an empty band [low, cutoff) holds nothing
-    below = _odd_sum_through(2 - alpha, lower) if low.ndim or low > 0 else 0.0
-    slope = (4 / np.pi**2) * f0**alpha * (_odd_sum_through(2 - alpha, upper) - below)
+    below = _odd_sum_through(s, lower) if low.ndim or low > 0 else 0.0
+    slope = scale * (_odd_sum_through(s, upper) - below)
     if alpha == 2:
         # the pi/2-pulse plateau: integral_0^x f^2 |G|^2 df = (odd-harmonic lobes below x) + x / (2 pi^2)
         # once x has passed the first lobe (exact between lobes, by Parseval on g'), and about 0 below
