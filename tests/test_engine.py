@@ -459,3 +459,21 @@ class TestFreeInterrogation:
             assert (ok == ok2).all()
             from gwclock.engine.formula import total_psd
             assert np.all(total_psd(free)[ok] <= total_psd(locked)[ok] * (1 + 1e-12))
+
+
+def test_frequencies_given_as_quantities_are_converted():
+    # 5 mHz is 0.005 Hz (SI, astropy units): a Quantity is never read as its bare number
+    import astropy.units as u
+
+    from gwclock.engine import signal_response, window_psd
+    d = load_mission(None)[0].design()
+    f = np.array([1.0, 10.0, 100.0])
+    np.testing.assert_allclose(envelope(d, f * u.mHz).total, envelope(d, f / 1e3).total, rtol=1e-12, atol=0)
+    np.testing.assert_allclose(window(d, f / 1e3, tune=30 * u.mHz).total, window(d, f / 1e3, tune=0.03).total,
+                               rtol=1e-12, atol=0)
+    np.testing.assert_allclose(signal_response(d, f * u.mHz), signal_response(d, f / 1e3), rtol=1e-12, atol=0)
+    s1, _ = window_psd(d, [30 * u.mHz], f * u.mHz)
+    s2, _ = window_psd(d, [0.03], f / 1e3)
+    np.testing.assert_allclose(s1, s2, rtol=1e-12, atol=0)
+    with pytest.raises(ValueError, match="expected a frequency"):
+        envelope(d, f * u.m)

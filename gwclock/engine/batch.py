@@ -14,7 +14,7 @@ import numpy as np
 
 from ..physics import noises
 from ..physics.design import Design
-from .budget import check_grid
+from .budget import check_grid, hertz
 from .curves import envelope_parts
 from .formula import signal_response, total_psd
 
@@ -61,8 +61,7 @@ def batch_budget(designs, frequency, noise_terms=False):
         ``"total"`` of shape (V, F) in 1/Hz and, with ``noise_terms``, one array per noise;
         ``"interrogation"`` and ``"pulses"`` of the chosen sequences.
     """
-    f = check_grid(frequency) if np.ndim(frequency) == 1 and len(frequency) > 1 else np.atleast_1d(
-        np.asarray(frequency, dtype=float))
+    f = check_grid(frequency) if np.ndim(frequency) == 1 and len(frequency) > 1 else np.atleast_1d(hertz(frequency))
     V, F = len(designs), f.size
     out = {"total": np.empty((V, F)), "interrogation": np.empty((V, F)), "pulses": np.empty((V, F))}
     if noise_terms:

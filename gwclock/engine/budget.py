@@ -9,7 +9,7 @@ import numpy as np
 
 from ..physics.design import Design
 
-__all__ = ["Budget", "frequency_grid", "check_grid", "band_below", "SPAN"]
+__all__ = ["Budget", "frequency_grid", "check_grid", "hertz", "band_below", "SPAN"]
 
 #: The frequency span (Hz) gwclock covers by default: every default grid spans it.
 SPAN = (1e-5, 100.0)
@@ -100,9 +100,24 @@ def frequency_grid(fmin, fmax, points):
     return np.geomspace(fmin, fmax, int(points))
 
 
+def hertz(value):
+    """A frequency (or array of them) in Hz as floats: an astropy Quantity is converted (``5 *
+    u.mHz`` is 0.005), a plain number is taken as Hz; another dimension is refused (ValueError)."""
+    import astropy.units as u
+    if isinstance(value, (list, tuple)) and any(isinstance(v, u.Quantity) for v in value):
+        value = u.Quantity(value)  # a list of Quantities (mixed units are converted to one)
+    if isinstance(value, u.Quantity):
+        try:
+            return np.asarray(value.to_value(u.Hz), dtype=float)
+        except u.UnitConversionError:
+            raise ValueError(f"expected a frequency, got a quantity in {value.unit}") from None
+    return np.asarray(value, dtype=float)
+
+
 def check_grid(frequency):
-    """The frequencies as a float array, refused unless 1-D, positive, finite and strictly increasing."""
-    f = np.asarray(frequency, dtype=float)
+    """The frequencies as a float array (Hz; a Quantity is converted), refused unless 1-D,
+    positive, finite and strictly increasing."""
+    f = hertz(frequency)
     if f.ndim != 1 or f.size == 0:
         raise ValueError("frequencies must be a non-empty one-dimensional array")
     if not np.all(np.isfinite(f)) or np.any(f <= 0):

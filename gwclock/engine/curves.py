@@ -13,7 +13,7 @@ import numpy as np
 from ..physics import noises
 from ..physics.design import Design
 from ..physics.sequences import SEQUENCES
-from .budget import Budget, check_grid
+from .budget import Budget, check_grid, hertz
 from .formula import signal_response, total_psd
 from .search import RAMSEY, best_sequence
 
@@ -103,8 +103,9 @@ def window_psd(design: Design, tunings, frequency):
         ``S_n`` of shape (K, P) in 1/Hz, and the per-tuning sequence (``pulses``,
         ``interrogation``, ...).
     """
+    tunings, frequency = hertz(tunings), hertz(frequency)
     parts, best = window_parts(design, tunings, frequency)
-    f = np.broadcast_to(np.asarray(frequency, dtype=float), next(iter(parts.values())).shape)
+    f = np.broadcast_to(frequency, next(iter(parts.values())).shape)
     return total_psd(parts) / signal_response(design, f), best
 
 
@@ -156,7 +157,7 @@ def window(design: Design, frequency, tune: float | None = None) -> Budget:
         With ``mode == "window"``.
     """
     f = check_grid(frequency)
-    f0 = design.tune if tune is None else float(tune)
+    f0 = design.tune if tune is None else float(hertz(tune))
     if f0 is None:
         raise ValueError("a window needs a tuning frequency")
     try:

@@ -15,6 +15,7 @@ import numpy as np
 
 from ..physics import noises, projection, response
 from ..physics.design import Design
+from .budget import hertz
 
 __all__ = ["evaluate", "evaluate_free", "linear_noise", "projection_term", "total_psd", "pick", "signal_response"]
 
@@ -103,6 +104,8 @@ def pick(parts, index):
     return {k: np.take_along_axis(np.asarray(v), index[None], axis=0)[0] for k, v in parts.items()}
 
 def signal_response(design: Design, frequency):
-    """Sky-averaged signal response of the mission: link response times the phase-lock transfer."""
+    """Sky-averaged signal response of the mission: link response times the phase-lock transfer
+    (frequency in Hz, or a Quantity)."""
+    frequency = hertz(frequency)
     return (response.link_response(frequency, design.baseline, design.path)
             * response.phase_lock_transfer(frequency, design.phase_lock_bandwidth))

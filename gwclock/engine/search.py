@@ -14,6 +14,7 @@ from ..physics import filters, noises, projection
 from ..physics.design import Design
 from ..physics.filters import finite_pulse_factor
 from ..physics.sequences import SEQUENCES, Ramsey, closed_form_red, optimal_interrogation
+from .budget import hertz
 from .formula import evaluate, evaluate_free, linear_noise, pick, projection_term, total_psd
 from .optimum import continuous_optimum
 
@@ -564,7 +565,7 @@ def optimise(design: Design, f0, kind: str | None = None, locked: bool = False):
         Per-f0 arrays as from :func:`evaluate` for the chosen sequence, and whether any
         sequence of that kind reaches f0.
     """
-    return best_of_kind(design, SEQUENCES[kind or design.kind], np.atleast_1d(np.asarray(f0, dtype=float)), locked)
+    return best_of_kind(design, SEQUENCES[kind or design.kind], np.atleast_1d(hertz(f0)), locked)
 
 
 def best_sequence(design, f0):
