@@ -18,10 +18,12 @@ from astropy.table import Table
 
 from .sweep import evaluate_points, parse_metric, perturbed_metrics, point
 
-__all__ = ["run_sweep", "chunk_rows", "Progress", "CHUNK_POINTS"]
+__all__ = ["run_sweep", "chunk_rows", "grid_size", "Progress", "CHUNK_POINTS", "MAX_POINTS"]
 
 #: Grid points evaluated together (one task for a worker).
 CHUNK_POINTS = 64
+#: Most grid points one sweep may have (a larger grid is refused before anything is allocated).
+MAX_POINTS = 10_000_000
 
 
 class Progress:
@@ -91,13 +93,22 @@ def _index(axes, combo):
     return i
 
 
+def grid_size(axes) -> int:
+    """Number of grid points of the axes (their product)."""
+    return int(np.prod([len(a.texts) for a in axes], dtype=float))
+
+
 def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb=(), samples=200, seed=12345,
               sink=None, quiet=True):
     """Run a sweep; feed finished chunks, in grid order, to ``sink(table)``. Returns row count."""
-    combos = list(itertools.product(*[range(len(a.texts)) for a in axes]))
-    chunks = [combos[i:i + CHUNK_POINTS] for i in range(0, len(combos), CHUNK_POINTS)]
+    total = grid_size(axes)
+    if total > MAX_POINTS:
+        raise ValueError(f"the grid has {total:.3g} points; at most {MAX_POINTS:.0e} are swept in one run")
+    product = itertools.product(*[range(len(a.texts)) for a in axes])
+    # chunks are made as they are needed: the grid is never held whole
+    chunks = iter(lambda: list(itertools.islice(product, CHUNK_POINTS)), [])
     args = (mission, axes, list(metric_texts))
-    progress = Progress(len(combos), quiet)
+    progress = Progress(total, quiet)
     rows = 0
 
     def emit(table):
@@ -124,9 +135,14 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
                         window.append(client.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed, pure=False))
         elif workers > 1:
             with ProcessPoolExecutor(workers) as pool:
-                futures = [pool.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed) for ch in chunks]
-                for fut in futures:
-                    emit(fut.result())
+                # a bounded window of chunks in flight, in grid order
+                window = [pool.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed)
+                          for ch in itertools.islice(chunks, 2 * workers)]
+                while window:
+                    emit(window.pop(0).result())
+                    nxt = next(chunks, None)
+                    if nxt is not None:
+                        window.append(pool.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed))
         else:
             for ch in chunks:
                 emit(chunk_rows(*args, ch, tuple(perturb), samples, seed))
