@@ -29,3 +29,18 @@ def test_window_plot_label_names_the_tuning():
     artists = plot_budget(w, components=False)
     assert set(artists) == {"total"}
     assert "0.1 Hz" in artists["total"].get_label()
+
+
+def test_a_figure_saved_twice_is_the_same_file(tmp_path):
+    # reproducible outputs (common practice, no source): no date, no random element ids
+    import time
+
+    from gwclock.outputs.plotting import save_figure
+    fig = Figure()
+    fig.add_subplot().plot([1, 2, 3], [3, 1, 2], label="a")
+    for suffix in (".svg", ".pdf", ".png"):
+        a, b = tmp_path / f"a{suffix}", tmp_path / f"b{suffix}"
+        save_figure(fig, a, metadata={"Title": "t"})
+        time.sleep(1.1)
+        save_figure(fig, b, metadata={"Title": "t"})
+        assert a.read_bytes() == b.read_bytes(), suffix

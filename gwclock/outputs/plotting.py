@@ -155,11 +155,13 @@ def save_figure(fig, path, dpi=200, metadata=None) -> Path:
         meta = {k: str(v) for k, v in meta.items()}
     elif fmt == "pdf":
         meta = {"Title": meta.get("Title", ""), "Creator": meta.get("Creator", "gwclock"),
-                "Subject": meta.get("Subject", "")}
+                "Subject": meta.get("Subject", ""), "CreationDate": None}
     else:
+        # no date, and element ids from a fixed salt: the same figure gives the same file
         meta = {"Title": meta.get("Title", ""), "Creator": meta.get("Creator", "gwclock"),
-                "Description": meta.get("Subject", "")}
-    with atomic_path(p) as tmp:
+                "Description": meta.get("Subject", ""), "Date": None}
+    import matplotlib as mpl
+    with atomic_path(p) as tmp, mpl.rc_context({"svg.hashsalt": "gwclock"}):
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
     return p
 
