@@ -16,7 +16,7 @@ from pathlib import Path
 
 from .errors import InputError
 
-__all__ = ["TABLE_FORMATS", "FIGURE_FORMATS", "register_input", "is_input", "check_output_path",
+__all__ = ["TABLE_FORMATS", "FIGURE_FORMATS", "register_input", "is_input", "check_output_path", "inside",
            "atomic_path", "read_toml", "STOP", "check_stop"]
 
 #: Table suffixes and the astropy writer of each.
@@ -54,6 +54,18 @@ def is_input(path) -> bool:
         return Path(path).resolve() in _INPUTS
     except (OSError, RuntimeError):
         return False
+
+
+def inside(base, relative, source, field) -> Path:
+    """``base / relative``, refused (InputError) unless it resolves inside the folder ``base``: a
+    path written in a file (a figure spec) reaches only that file's own folder and below."""
+    base = Path(base)
+    p = base / relative
+    root, target = base.resolve(), p.resolve()
+    if target != root and root not in target.parents:
+        raise InputError("a path in this file must stay inside its folder (give other paths on the command line)",
+                         source=str(source), field=field, value=str(relative))
+    return p
 
 
 def check_output_path(path, kinds) -> Path:

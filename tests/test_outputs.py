@@ -126,6 +126,20 @@ def test_default_output_name_from_the_spec(tmp_path, capsys):
     assert (tmp_path / "fig.pdf").exists()
 
 
+@pytest.mark.parametrize("out", ["../escape.png", "/tmp/escape.png", "sub/../../escape.png"])
+def test_a_spec_writes_only_inside_its_folder(tmp_path, capsys, out):
+    # a file's paths reach its own folder only (common practice, no source); --out may go anywhere
+    folder = tmp_path / "specs"
+    folder.mkdir()
+    p = spec_file(folder)
+    p.write_text(f'out = "{out}"\n' + p.read_text())
+    assert main(["plot", str(p)]) == 2
+    err = capsys.readouterr().err
+    assert "out: got" in err and "must stay inside its folder" in err
+    assert not (tmp_path / "escape.png").exists()
+    assert main(["plot", str(p), "--out", str(tmp_path / "escape.png")]) == 0
+
+
 @pytest.mark.parametrize("change, fragment", [
     (("form = \"asd\"", "form = \"power\""), "form"),
     (("title", "titel"), "titel: unknown key; did you mean 'title'?"),

@@ -6,7 +6,7 @@ from pathlib import Path
 
 from ..config.figure_spec import load_spec
 from ..config.mission import load_mission
-from ..files import FIGURE_FORMATS, check_output_path
+from ..files import FIGURE_FORMATS, check_output_path, inside
 from ..outputs.figures import render_spec, save_spec_figure
 from ..outputs.report import build_report
 from .common import mission_arg
@@ -20,7 +20,7 @@ def cmd_plot(args):
     if not out:
         out = str(Path(args.spec).with_suffix(".pdf"))
     elif not args.out:
-        out = str(Path(args.spec).parent / out)
+        out = str(inside(Path(args.spec).parent, out, args.spec, "out"))
     check_output_path(out, FIGURE_FORMATS)
     fig, artists, prov = render_spec(spec, base_dir=Path(args.spec).parent)
     save_spec_figure(fig, out, spec, digest, prov)
