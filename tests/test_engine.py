@@ -477,3 +477,15 @@ def test_frequencies_given_as_quantities_are_converted():
     np.testing.assert_allclose(s1, s2, rtol=1e-12, atol=0)
     with pytest.raises(ValueError, match="expected a frequency"):
         envelope(d, f * u.m)
+
+
+def test_a_budget_as_a_quantity_table():
+    # the same numbers with their SI units (astropy units): ASD^2 is the total PSD
+    import astropy.units as u
+    d = load_mission(None)[0].design()
+    b = envelope(d, np.geomspace(1e-3, 1, 20))
+    t = b.to_qtable()
+    np.testing.assert_allclose((t["asd"] ** 2).to_value(u.Hz**-1), b.total, rtol=1e-12, atol=0)
+    np.testing.assert_allclose(t["interrogation"].to_value(u.ms), b.interrogation * 1e3, rtol=1e-12, atol=0)
+    assert t["frequency"].unit == u.Hz and t.meta["mission"] == d.name
+    assert "best strain ASD" in b._repr_html_()

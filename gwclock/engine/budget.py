@@ -4,6 +4,7 @@ checks every entry point shares."""
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from html import escape as html_escape
 
 import numpy as np
 
@@ -72,6 +73,36 @@ class Budget:
     def characteristic_noise(self):
         """Noise characteristic strain h_n = sqrt(f S_n) (dimensionless)."""
         return np.sqrt(self.frequency * self.total)
+
+    def to_qtable(self):
+        """The budget as an :class:`astropy.table.QTable` of Quantities: frequency, total and
+        per-noise strain ASD, the sequence (tuning, pulses, interrogation, cycle, contrast,
+        read-out) and, in its meta, the mode and the mission's name."""
+        import astropy.units as u
+        from astropy.table import QTable
+        t = QTable()
+        t["frequency"] = self.frequency * u.Hz
+        t["asd"] = self.asd * u.Hz**-0.5
+        for name in self.psd:
+            t[f"asd_{name}"] = self.asd_of(name) * u.Hz**-0.5
+        t["tuning"] = self.tuning * u.Hz
+        t["pulses"] = np.asarray(self.pulses)
+        t["interrogation"] = self.interrogation * u.s
+        t["cycle"] = self.cycle * u.s
+        t["contrast"] = np.asarray(self.contrast)
+        t["correlated"] = np.asarray(self.correlated, dtype=bool)
+        t.meta.update(mode=self.mode, mission=self.design.name,
+                      convention="sky-averaged strain ASD (normalisation of Robson, Cornish & Liu 2019)")
+        return t
+
+    def _repr_html_(self):
+        """A short summary for notebooks: the best point and the band within x10 of it."""
+        i = int(np.argmin(self.total))
+        lo, hi = self.band_below(10 * self.asd[i])
+        return (f"<p><b>{html_escape(self.design.name)}</b>: {self.mode}, {self.frequency.size} frequencies "
+                f"from {self.frequency[0]:.3g} Hz to {self.frequency[-1]:.3g} Hz; best strain ASD "
+                f"{self.asd[i]:.3e} Hz<sup>-1/2</sup> at {self.frequency[i]:.4g} Hz; within x10 of it "
+                f"from {lo:.3g} Hz to {hi:.3g} Hz.</p>")
 
 
 def band_below(f, asd, level):
