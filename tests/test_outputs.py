@@ -213,3 +213,13 @@ def test_report_opens_in_headless_chromium(tmp_path):
 def test_report_refuses_a_missing_parent(tmp_path, capsys):
     assert main(["report", "--out", str(tmp_path / "no" / "such")]) == 2
     assert "parent folder does not exist" in capsys.readouterr().err
+
+
+def test_a_spec_may_be_a_dict():
+    # library use without a file: the same validation, the same one-line errors
+    from gwclock.outputs.figures import render_spec
+    fig, artists, _ = render_spec({"title": "t", "form": "asd", "mission": [{"file": "default"}],
+                                   "reference": [{"name": "lisa"}]})
+    assert len(artists["curves"]) == 2
+    with pytest.raises(InputError, match="form"):
+        render_spec({"title": "t", "form": "power"})

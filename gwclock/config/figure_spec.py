@@ -17,7 +17,7 @@ from ..files import read_toml
 from ..quantities import parse_quantity
 from .mission import validation_error
 
-__all__ = ["FigureSpec", "load_spec", "SIZES", "FONTS"]
+__all__ = ["FigureSpec", "load_spec", "spec_from_dict", "SIZES", "FONTS"]
 
 SIZES = {"one-column": (3.4, 3.9), "two-column": (7.0, 4.3)}
 FONTS = {"one-column": {"font.size": 6.5, "axes.titlesize": 7, "legend.fontsize": 5},
@@ -132,6 +132,14 @@ class FigureSpec(_Item):
         if not (self.mission or self.reference or self.track or self.point):
             raise ValueError("the figure is empty: add [[mission]], [[reference]], [[track]] or [[point]] tables")
         return self
+
+
+def spec_from_dict(data, source="figure spec"):
+    """Validate a figure spec given as a dict (the TOML's structure); returns a FigureSpec."""
+    try:
+        return FigureSpec.model_validate(data)
+    except ValidationError as exc:
+        raise validation_error(exc, source, FigureSpec) from None
 
 
 def load_spec(path):

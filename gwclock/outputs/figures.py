@@ -18,7 +18,7 @@ import numpy as np
 
 from ..astro.references import get_reference
 from ..astro.sources import MARKS, Inspiral
-from ..config.figure_spec import FONTS, SIZES, FigureSpec
+from ..config.figure_spec import FONTS, SIZES, FigureSpec, spec_from_dict
 from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
@@ -40,9 +40,12 @@ def _transform(form, f, s_n, h0):
 YLABELS = {"asd": r"strain ASD [Hz$^{-1/2}$]", "hc": "characteristic strain", "omega": r"$\Omega_{\rm gw}$ sensitivity"}
 
 
-def render_spec(spec: FigureSpec, base_dir=".", ax=None):
-    """Draw a spec; returns (figure, artists dict, provenance dict)."""
+def render_spec(spec: FigureSpec | dict, base_dir=".", ax=None):
+    """Draw a spec (a FigureSpec, or a dict with the TOML's structure); returns (figure, artists
+    dict, provenance dict). Mission files are read relative to ``base_dir``."""
     import matplotlib as mpl
+    if isinstance(spec, dict):
+        spec = spec_from_dict(spec)
     with mpl.rc_context(FONTS[spec.size]):
         return _render(spec, base_dir, ax)
 
