@@ -206,6 +206,8 @@ def test_scan_command(tmp_path, capsys):
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "power_needed@-1"], "expected a frequency"),
     (["sweep", "--vary", "coherence_time=10 s:100 s:2", "--metric", "asd@1 Hz"], "did you mean 'clock.coherence_time'"),
     (["sweep", "--vary", "clock.atom_number=nan:1e8:3", "--metric", "asd@1 Hz"], "expected finite ends"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--scheduler", "not a url"],
+     "--scheduler: got 'not a url'; cannot use this Dask scheduler"),
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:1000000", "--vary", "clock.pulse_error=0:0.1:1000000",
       "--metric", "asd@1 Hz"], "the grid has 1e+12 points; at most 1e+07"),
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "coherence_time=0.1"],

@@ -16,6 +16,7 @@ from concurrent.futures import ProcessPoolExecutor
 import numpy as np
 from astropy.table import Table
 
+from ..errors import InputError
 from .sweep import evaluate_points, parse_metric, perturbed_metrics, point
 
 __all__ = ["run_sweep", "chunk_rows", "grid_size", "Progress", "CHUNK_POINTS", "MAX_POINTS"]
@@ -120,7 +121,12 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
     try:
         if scheduler:
             from distributed import Client
-            with Client(scheduler, timeout="20s") as client:
+            try:
+                client = Client(scheduler, timeout="20s")
+            except (OSError, ValueError, TypeError) as exc:  # unreachable, or not an address
+                raise InputError(f"cannot use this Dask scheduler ({' '.join(str(exc).split())[:120]})",
+                                 source="command line", field="--scheduler", value=scheduler) from None
+            with client:
                 window = []
                 pending = iter(chunks)
                 limit = max(4, 2 * len(client.nthreads()))
