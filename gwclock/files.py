@@ -85,6 +85,8 @@ def check_output_path(path, kinds) -> Path:
         raise InputError("the output folder does not exist", source="command line", field=str(p))
     if p.is_dir():
         raise InputError("is a folder; expected a file name", source="command line", field=str(p))
+    if p.is_symlink():
+        parent = p.resolve().parent
     try:  # find an unwritable folder now, not after the work
         fd, probe = tempfile.mkstemp(prefix=".gwclock-probe.", dir=parent)
         os.close(fd)
@@ -102,7 +104,9 @@ class atomic_path:
     """
 
     def __init__(self, target):
-        self.target = Path(target)
+        target = Path(target)
+        # a symlink is written through: the file it points to is replaced, the link stays
+        self.target = target.resolve() if target.is_symlink() else target
 
     def __enter__(self) -> Path:
         # a short temporary name: the target's own may already be near the 255-byte limit

@@ -7,6 +7,7 @@ Config files and the command line carry units in their values; this module turns
 from __future__ import annotations
 
 import math
+import warnings
 
 import astropy.units as u
 
@@ -58,7 +59,11 @@ def parse_quantity(value: object, unit: u.UnitBase | str, *, allow_plain: bool =
     elif isinstance(value, str):
         text = value.strip()
         try:
-            q = u.Quantity(text)
+            with warnings.catch_warnings():
+                # "m / s2 / Hz(1/2)" is read correctly (left to right); astropy's style warning about
+                # several slashes is not the user's concern
+                warnings.simplefilter("ignore", u.UnitsWarning)
+                q = u.Quantity(text)
         except (TypeError, ValueError):
             raise ValueError(f"cannot read it as a quantity: expected {expected}") from None
         if q.unit == u.dimensionless_unscaled and unit != u.dimensionless_unscaled:

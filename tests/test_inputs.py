@@ -239,3 +239,22 @@ class TestGrids:
         from gwclock.engine import envelope
         with pytest.raises(ValueError, match=message):
             envelope(load_mission(None)[0].design(), f)
+
+
+def test_several_slashes_read_left_to_right_without_a_warning():
+    # "m / s2 / Hz(1/2)" is m s^-2 Hz^-1/2 (astropy unit grammar); warnings are errors in this suite
+    q = parse_quantity("3e-15 m / s2 / Hz(1/2)", "m / (s2 Hz(1/2))")
+    assert q.value == pytest.approx(3e-15, rel=1e-12, abs=0)
+
+
+def test_an_output_symlink_is_written_through(tmp_path):
+    # as open() would (common practice, no source): the file the link points to is replaced, the link stays
+    from gwclock.files import atomic_path
+    (tmp_path / "real").mkdir()
+    target = tmp_path / "real" / "t.ecsv"
+    target.write_text("old")
+    link = tmp_path / "link.ecsv"
+    link.symlink_to(target)
+    with atomic_path(link) as tmp:
+        tmp.write_text("new")
+    assert link.is_symlink() and target.read_text() == "new"
