@@ -145,3 +145,13 @@ def test_missing_and_unreadable_files(tmp_path):
 def test_dict_source_name():
     with pytest.raises(InputError, match="^mine: link: required field is missing"):
         mission_from_dict({"name": "x", "clock": {"species": "Sr87", "atom_number": 1}}, "mine")
+
+
+def test_clone_refuses_unknown_fields_in_one_line():
+    # the library's one error type, naming the field (common practice, no source)
+    m = load_mission(None)[0]
+    with pytest.raises(InputError, match="clock.atom_numbr: no such mission field"):
+        m.clone(**{"clock.atom_numbr": 5})
+    with pytest.raises(InputError, match="coherence_time: no such mission field"):
+        m.clone(coherence_time="5 s")
+    assert "clock.atom_number" in m._repr_html_()

@@ -237,6 +237,16 @@ class Mission(_Section):
             duration=si(self.observation.duration, u.s),
         )
 
+    def _repr_html_(self):
+        """The mission as an HTML table for notebooks (section, field, value with its unit)."""
+        import html
+        rows = [f"<tr><th colspan=2 style='text-align:left'>{html.escape(self.name)}</th></tr>"]
+        for section, value in self.model_dump(mode="python").items():
+            if isinstance(value, dict):
+                for key, v in value.items():
+                    rows.append(f"<tr><td>{section}.{key}</td><td>{html.escape(str(v))}</td></tr>")
+        return "<table>" + "".join(rows) + "</table>"
+
     def clone(self, **changes: Any) -> Mission:
         """A new mission with dotted-field changes (``{"clock.atom_number": 1e6}``), re-validated;
         an invalid change raises :class:`~gwclock.errors.InputError` naming the field."""
@@ -245,7 +255,11 @@ class Mission(_Section):
             node = data
             *parents, leaf = dotted.split(".")
             for p in parents:
+                if not isinstance(node.get(p), dict):
+                    raise InputError("no such mission field; expected SECTION.FIELD", field=dotted)
                 node = node[p]
+            if leaf not in node:
+                raise InputError("no such mission field", field=dotted)
             node[leaf] = value
         try:
             return Mission.model_validate(data)
