@@ -17,9 +17,12 @@ from astropy.table import vstack
 from scipy import integrate
 
 from .config.mission import load_mission
-from .engine import envelope, signal_response
+from .engine import envelope, formula, search, signal_response
 from .engine.batch import batch_budget
+from .engine.formula import evaluate, evaluate_free, total_psd
+from .engine.search import RAMSEY
 from .physics.response import link_response
+from .physics.sequences import SEQUENCES
 from .studies.executor import run_sweep
 from .studies.sweep import parse_vary
 
@@ -35,7 +38,6 @@ def _best_time(fn, repeat=3):
 
 def _count_evaluations(fn):
     """Sequences (points x candidates) the engine evaluates while ``fn`` runs."""
-    from .engine import formula, search
     seen = [0]
     original = formula.evaluate
 
@@ -53,9 +55,6 @@ def _count_evaluations(fn):
 
 def _winners_only(design, f, env):
     """S_y,eq of each point's winning sequence alone (Ramsey where it won, the DD kind elsewhere)."""
-    from .engine.formula import evaluate, evaluate_free, total_psd
-    from .engine.search import RAMSEY
-    from .physics.sequences import SEQUENCES
     out = np.empty(f.size)
     ramsey = env.pulses == 0
     for mask, kind in ((ramsey, RAMSEY), (~ramsey, SEQUENCES[design.kind])):

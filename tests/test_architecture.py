@@ -14,7 +14,9 @@ import gwclock
 from tests import import_graph
 
 #: Libraries a function may import on first use, so that start-up and table-only runs skip them.
-LAZY_OK = ("matplotlib", "distributed", "astropy.cosmology", "scipy.integrate", "scipy.optimize")
+# astropy.units and astropy.table in the engine only for Budget.to_qtable: plain use never loads them
+LAZY_OK = ("matplotlib", "distributed", "astropy.cosmology", "scipy.integrate", "scipy.optimize",
+           "astropy.units", "astropy.table")
 
 
 @pytest.fixture(scope="module")

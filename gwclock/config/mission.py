@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import difflib
 import hashlib
+import html
 import math
 import tomllib
 from importlib import resources
@@ -239,7 +240,6 @@ class Mission(_Section):
 
     def _repr_html_(self):
         """The mission as an HTML table for notebooks (section, field, value with its unit)."""
-        import html
         rows = [f"<tr><th colspan=2 style='text-align:left'>{html.escape(self.name)}</th></tr>"]
         for section, value in self.model_dump(mode="python").items():
             if isinstance(value, dict):

@@ -134,14 +134,19 @@ def frequency_grid(fmin, fmax, points):
 def hertz(value):
     """A frequency (or array of them) in Hz as floats: an astropy Quantity is converted (``5 *
     u.mHz`` is 0.005), a plain number is taken as Hz; another dimension is refused (ValueError)."""
-    import astropy.units as u
-    if isinstance(value, (list, tuple)) and any(isinstance(v, u.Quantity) for v in value):
-        value = u.Quantity(value)  # a list of Quantities (mixed units are converted to one)
-    if isinstance(value, u.Quantity):
+    def quantity(v):  # duck-typed: the engine does not import astropy for plain numbers
+        return hasattr(v, "unit") and hasattr(v, "to_value")
+
+    def to_hz(v):
         try:
-            return np.asarray(value.to_value(u.Hz), dtype=float)
-        except u.UnitConversionError:
-            raise ValueError(f"expected a frequency, got a quantity in {value.unit}") from None
+            return v.to_value("Hz")
+        except ValueError:  # astropy's UnitConversionError
+            raise ValueError(f"expected a frequency, got a quantity in {v.unit}") from None
+
+    if isinstance(value, (list, tuple)) and any(quantity(v) for v in value):
+        return np.array([to_hz(v) if quantity(v) else float(v) for v in value], dtype=float)
+    if quantity(value):
+        return np.asarray(to_hz(value), dtype=float)
     return np.asarray(value, dtype=float)
 
 
