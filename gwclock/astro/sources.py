@@ -32,7 +32,7 @@ from ..quantities import parse_quantity
 
 __all__ = [
     "chirp_mass", "Inspiral", "Monochromatic", "redshift_at_distance", "distance_at_redshift",
-    "MARKS", "load_sources", "Z_LIMIT",
+    "MARKS", "load_sources", "Z_LIMIT", "check_source_distance",
 ]
 
 
@@ -41,6 +41,14 @@ Z_LIMIT = 1000.0
 
 #: Standard marks on a track: time before merger in s.
 MARKS = {"1 yr": YEAR, "1 month": YEAR / 12, "1 day": DAY, "1 hour": DAY / 24}
+
+
+def check_source_distance(d):
+    """A luminosity distance (m) a source may be given at: from 1 pc to the distance of z =
+    Z_LIMIT; otherwise ValueError with the one-line reason."""
+    if not PC <= d <= distance_at_redshift(Z_LIMIT):
+        raise ValueError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}")
+    return d
 
 
 def chirp_mass(m1, m2):
@@ -265,10 +273,10 @@ def load_sources(path):
             if ("distance" in row) == ("redshift" in row):
                 raise InputError("give exactly one of distance and redshift", source=str(p), field=where)
             if "distance" in row:
-                d = qty("distance", "m")
-                if not PC <= d <= distance_at_redshift(Z_LIMIT):
-                    raise InputError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}",
-                                     source=str(p), field=f"{where}.distance", value=row["distance"])
+                try:
+                    d = check_source_distance(qty("distance", "m"))
+                except ValueError as exc:
+                    raise InputError(str(exc), source=str(p), field=f"{where}.distance", value=row["distance"]) from None
                 out.append(Inspiral.from_masses(m1, m2, distance=d, name=name))
             else:
                 z = num("redshift")

@@ -9,9 +9,9 @@ import numpy as np
 from astropy.table import Table
 
 from ..astro.references import CONFUSION_PARAMETERS, DEFAULT_COMPARISON, REFERENCES, TABULATED_ONLY, user_curve
-from ..astro.sources import MARKS, Z_LIMIT, Inspiral, Monochromatic, distance_at_redshift, load_sources
+from ..astro.sources import MARKS, Z_LIMIT, Inspiral, Monochromatic, check_source_distance, load_sources
 from ..config.mission import load_mission
-from ..constants import MPC, MSUN, PC, YEAR
+from ..constants import MPC, MSUN, YEAR
 from ..engine import envelope
 from ..errors import InputError
 from ..outputs.plotting import plot_lines
@@ -70,10 +70,10 @@ def _source_from_args(args):
     if (args.distance is None) == (args.redshift is None):
         raise InputError("give exactly one of --distance and --redshift", source="command line")
     if args.distance is not None:
-        d = quantity(args.distance, "m", "--distance")
-        if not PC <= d <= distance_at_redshift(Z_LIMIT):
-            raise InputError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}", source="command line",
-                             field="--distance", value=args.distance)
+        try:
+            d = check_source_distance(quantity(args.distance, "m", "--distance"))
+        except ValueError as exc:
+            raise InputError(str(exc), source="command line", field="--distance", value=args.distance) from None
         return [Inspiral.from_masses(m1, m2, distance=d, name=f"{m1:g}+{m2:g} Msun at {d / MPC:.4g} Mpc")]
     z = number(args.redshift, "--redshift")
     if not 0 < z <= Z_LIMIT:

@@ -262,11 +262,7 @@ def _free_interrogation(design, kind, f, best, ok):
                 q = p[live]
                 T = np.minimum(np.exp(x), hi_T[q])
                 parts = evaluate_free(dsub.take(live, p.size), kind, f[q], n_p[live], T)
-                total = total_psd(parts)
-                total = np.where(np.isfinite(total), total, np.inf)
-                _keep_better(best, score, q, parts, total)
-                with np.errstate(divide="ignore"):
-                    return np.log(total)  # parabolas fit the log of a budget spanning decades better
+                return _log_kept(best, score, q, parts, total_psd(parts))
 
             _bracket_search(np.log(a), np.log(m), np.log(b), objective)
         return score[idx] < before * (1 - 1e-15)
@@ -377,6 +373,15 @@ def _descend(design, kind, f0, linear, best, ok):
     return best
 
 
+def _log_kept(best, score, idx, parts, total):
+    """Keep the trial where it wins (:func:`_keep_better`) and return ln of its total, the score
+    a bracket search minimises (parabolas fit the log of a budget spanning decades better)."""
+    total = np.where(np.isfinite(total), total, np.inf)
+    _keep_better(best, score, idx, parts, total)
+    with np.errstate(divide="ignore"):
+        return np.log(total)
+
+
 def _keep_better(best, score, idx, trial, t_score=None):
     """Put the trial's parts into ``best`` where its total (``t_score``, computed when not given)
     beats ``score`` (both updated in place); returns the improved mask over ``idx``."""
@@ -480,11 +485,7 @@ def _refine_ramsey(design, f0, best, ok):
         if idx.size:
             def objective(x, live, idx=idx):
                 q = idx[live]
-                parts, total = trial(q, np.exp(x))
-                total = np.where(np.isfinite(total), total, np.inf)
-                _keep_better(best, score, q, parts, total)
-                with np.errstate(divide="ignore"):
-                    return np.log(total)
+                return _log_kept(best, score, q, *trial(q, np.exp(x)))
 
             _bracket_search(np.log(a), np.log(np.clip(T1, a, b)), np.log(b), objective)
     return best
