@@ -147,6 +147,50 @@ class TestAcceleration:
         assert relative == pytest.approx(5.2e-15, rel=1e-12, abs=0)
 
 
+class TestTwoWayAcceleration:
+    """The round trip A -> B -> A: y2 = [v_A(t - 2L/c) + v_A(t) - 2 v_B(t - L/c)] / c (Armstrong 2006,
+    Living Rev. Relativ. 9, 1, the three-pulse structure of the two-way Doppler response). With
+    independent velocities of PSD S_a / (2 pi f)^2 the transfer is taken here straight from the
+    delays, |1 + exp(-2 i w L/c)|^2 S_a,A + 4 S_a,B."""
+
+    L = 3e10
+
+    def design(self):
+        return quiet_design(acceleration_noise=3e-15, baseline=self.L, path="two-way")
+
+    def three_pulse(self, f):
+        w = 2 * np.pi * np.asarray(f, dtype=float)
+        sv = (3e-15) ** 2 / w**2
+        return (np.abs(1 + np.exp(-2j * w * self.L / sc.c)) ** 2 * sv + 4 * sv) / sc.c**2
+
+    def test_low_frequency_limit_is_four_times_the_sum(self):
+        # f << c/(2 pi L): both terms of the A test mass add coherently, S_y -> 4 (S_A + S_B) / (w c)^2
+        f = 1e-7 * sc.c / self.L
+        model = noises.psd(noises.acceleration_terms(self.design()), f)
+        assert model == pytest.approx(self.three_pulse(f), rel=1e-6, abs=0)
+        one_way = noises.psd(noises.acceleration_terms(quiet_design(acceleration_noise=3e-15, baseline=self.L)), f)
+        assert model / one_way == pytest.approx(4.0, rel=1e-12, abs=0)
+
+    @pytest.mark.parametrize("start", [3.0, 41.5, 400.25])
+    def test_ripple_mean_above_the_split(self, start):
+        # the mean of f^2 S_y over one ripple period c/(2L) equals the model's (by quadrature)
+        period = sc.c / (2 * self.L)
+        a = start * period
+        exact = integrate.quad(lambda f: f**2 * self.three_pulse(f), a, a + period, limit=200)[0]
+        model = integrate.quad(lambda f: f**2 * noises.psd(noises.acceleration_terms(self.design()), f),
+                               a, a + period, limit=200)[0]
+        assert model == pytest.approx(exact, rel=1e-6, abs=0)
+
+    def test_within_the_ripple_everywhere(self):
+        # below the split the model bounds the exact PSD (at most 4/3 above); above it is the mean,
+        # between 3/4 and 3/2 of the exact value (the ripple runs from 4 S_a to 8 S_a about 6 S_a)
+        f = np.geomspace(1e-3, 1e3, 4001) * sc.c / self.L
+        ratio = noises.psd(noises.acceleration_terms(self.design()), f) / self.three_pulse(f)
+        below = f < sc.c / (8 * self.L)
+        assert np.all(ratio[below] >= 1 - 1e-12) and np.all(ratio[below] <= 4 / 3 + 1e-12)
+        assert np.all(ratio >= 0.75 - 1e-12) and np.all(ratio <= 1.5 + 1e-12)
+
+
 def test_correlation_penalty_values():
     # analytic (Fisher information averaged over a uniform common phase): kappa = 1.14 at C = 0.99, 1.44 at 0.9, 1.87 at 0.5, -> 2 as C -> 0
     assert correlation_penalty(0.99) == pytest.approx(1.14, rel=5e-3, abs=0)

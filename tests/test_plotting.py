@@ -14,7 +14,7 @@ def test_budget_plot_artists():
     fig = Figure()
     ax = fig.add_subplot()
     artists = plot_budget(b, ax=ax, title=m.name)
-    assert set(artists) == {"total", "projection", "shot", "laser", "acceleration"}
+    assert set(artists) == {"total", "projection", "shot", "laser", "receiver", "acceleration"}
     assert ax.get_xscale() == "log" and ax.get_yscale() == "log"
     assert "[Hz]" in ax.get_xlabel() and "Hz" in ax.get_ylabel()
     assert m.name in ax.get_title()

@@ -84,7 +84,7 @@ class Link(_Section):
     transmit_aperture: _quantity("m", 1e-3, 100) = Field("0.3 m", description="transmit telescope diameter")
     receive_aperture: _quantity("m", 1e-3, 100) = Field("0.3 m", description="receive telescope diameter")
     optical_efficiency: _number(1e-12, 1.0) = Field(0.3, description="end-to-end power efficiency (0-1]")
-    phase_lock_bandwidth: _quantity("Hz", 1e-6, 1e9) = Field("10 Hz", description="noise bandwidth of the receiver phase lock")
+    phase_lock_bandwidth: _quantity("Hz", 1e-6, 1e9) = Field("10 kHz", description="bandwidth B of the receiving laser's first-order phase lock")
     timing_mismatch: _quantity("s", 0, 1.0) = Field("1 us", description="synchronisation error of the two clocks' interrogations")
     path: Literal["one-way", "two-way"] = Field("one-way", description="one-way link, or round trip through a transponder")
 
@@ -110,11 +110,15 @@ class Clock(_Section):
 
 
 class Laser(_Section):
-    """[laser]: the shared ultra-stable laser."""
+    """[laser]: the shared ultra-stable (master) laser, and the receiving laser phase-locked to it."""
 
     linewidth: _quantity("Hz", 0, 1e6) = Field("0.01 Hz", description="Lorentzian FWHM of the white frequency noise")
     flicker_floor: _number(0, 1e-6) = Field(4e-17, description="flicker floor of the fractional Allan deviation")
     gain_mismatch: _number(0, 1) = Field(0.0, description="fractional mismatch of the clocks' response to common laser noise")
+    receiver_linewidth: _quantity("Hz", 0, 1e6) | None = Field(
+        None, description="receiving laser's own white-FM linewidth (default: same as linewidth)")
+    receiver_flicker_floor: _number(0, 1e-6) | None = Field(
+        None, description="receiving laser's own flicker floor (default: same as flicker_floor)")
 
 
 class Spacecraft(_Section):
@@ -228,6 +232,10 @@ class Mission(_Section):
             linewidth=si(self.laser.linewidth, u.Hz),
             flicker_floor=self.laser.flicker_floor,
             gain_mismatch=self.laser.gain_mismatch,
+            receiver_linewidth=si(self.laser.receiver_linewidth if self.laser.receiver_linewidth is not None
+                                  else self.laser.linewidth, u.Hz),
+            receiver_flicker_floor=(self.laser.receiver_flicker_floor if self.laser.receiver_flicker_floor is not None
+                                    else self.laser.flicker_floor),
             acceleration_noise=si(self.spacecraft.acceleration_noise, "m / (s2 Hz(1/2))"),
             acceleration_corner=si(self.spacecraft.acceleration_corner, u.Hz),
             kind=self.sequence.kind,

@@ -37,6 +37,8 @@ class Design:
     linewidth: float
     flicker_floor: float
     gain_mismatch: float
+    receiver_linewidth: float
+    receiver_flicker_floor: float
     acceleration_noise: float
     acceleration_corner: float
     kind: str

@@ -25,6 +25,7 @@ import numpy as np
 from ..constants import c, h
 
 __all__ = ["PowerLaw", "Noise", "psd", "received_power", "shot_terms", "laser_terms", "laser_residual_terms",
+           "receiver_laser_terms", "receiver_terms",
            "acceleration_terms", "pulse_bandwidth", "NOISES", "stationary_noises"]
 
 
@@ -99,34 +100,77 @@ def laser_terms(design):
             PowerLaw(design.flicker_floor**2 / (2 * np.log(2)), -1)]
 
 
-def laser_residual_terms(design):
-    """Laser noise left after the synchronised common-mode cancellation of the two clocks.
+def receiver_laser_terms(design):
+    """The receiving laser's own free-running noise (white FM and flicker FM, as
+    :func:`laser_terms` with the receiver's linewidth and flicker floor)."""
+    return [PowerLaw(design.receiver_linewidth / (np.pi * design.nu0**2), 0),
+            PowerLaw(design.receiver_flicker_floor**2 / (2 * np.log(2)), -1)]
 
-    Inside the phase-lock bandwidth B both clocks see the same laser: a timing mismatch dt leaves
-    ``4 sin^2(pi f dt) S_y ~ (2 pi f dt)^2 S_y`` (valid for f dt << 1), which turns white FM into
-    white PM and flicker FM into flicker PM; a gain mismatch eps leaves ``eps^2 S_y``. The
-    receiving laser's own noise outside the loop is not modelled (assumed below the other
-    terms). Rising terms stop at the pulse bandwidth 1/(2 t_pi).
-    """
+
+def _tracking_error(terms, design, extra_inside=0.0, extra_outside=0.0):
+    """``|1 - H|^2 S`` of a first-order phase lock ``H = 1 / (1 + i f/B)`` as power laws: the exact
+    ``(f/B)^2 / (1 + (f/B)^2)`` is bounded by its asymptotes, ``(f/B)^2`` below B and 1 above
+    (at most 2x high, at f = B). ``extra_inside`` is added to ``1/B^2`` (a coefficient of f^2),
+    ``extra_outside`` to 1. Everything stops at the pulse bandwidth 1/(2 t_pi)."""
     top = pulse_bandwidth(design)
+    B = design.phase_lock_bandwidth
+    out = []
+    for term in terms:
+        out.append(PowerLaw((B**-2.0 + extra_inside) * term.level, term.alpha + 2, np.minimum(B, top)))
+        out.append(PowerLaw((1.0 + extra_outside) * term.level, term.alpha, top, B))  # empty when B >= top
+    return out
+
+
+def laser_residual_terms(design):
+    """The shared (master) laser's noise left in the comparison of the two clocks.
+
+    Clock B sees the receiving laser, phase-locked to the received light with a first-order loop
+    ``H = 1 / (1 + i f/B)``; the comparison keeps the loop's tracking error ``|1 - H|^2 S_y``
+    ((f/B)^2 inside the loop, all of it above B). What the loop does follow is common to both
+    clocks up to a timing mismatch dt, ``4 sin^2(pi f dt) |H|^2 S_y ~ (2 pi f dt)^2 |H|^2 S_y``
+    (f dt << 1), and a gain mismatch eps, ``eps^2 |H|^2 S_y``. Power-law bounds: below B the f^2
+    terms add, ``(1/B^2 + (2 pi dt)^2) f^2 S_y`` plus ``eps^2 S_y``; above B, where
+    ``|H|^2 <= (B/f)^2``, ``(1 + (2 pi B dt)^2 + eps^2) S_y``. White FM becomes white PM inside the
+    loop and leaks through the pi pulses like shot noise. All terms stop at the pulse bandwidth
+    1/(2 t_pi), above which the pulses no longer sample the light phase.
+    """
     B = design.phase_lock_bandwidth
     k_time = (2 * np.pi * design.timing_mismatch) ** 2
     k_gain = design.gain_mismatch**2
-    out = []
-    for term in laser_terms(design):
-        out.append(PowerLaw(k_time * term.level, term.alpha + 2, np.minimum(B, top)))
-        out.append(PowerLaw(k_gain * term.level, term.alpha, B))
+    master = laser_terms(design)
+    out = _tracking_error(master, design, k_time, k_time * B**2 + k_gain)
+    top = pulse_bandwidth(design)
+    out += [PowerLaw(k_gain * term.level, term.alpha, np.minimum(B, top)) for term in master]
     return out
+
+
+def receiver_terms(design):
+    """The receiving laser's own noise left in the comparison: the phase lock suppresses it by
+    ``|1 - H|^2`` (the same first-order loop and power-law bounds as
+    :func:`laser_residual_terms`); only the receiving clock sees it."""
+    return _tracking_error(receiver_laser_terms(design), design)
 
 
 def acceleration_terms(design):
     """Drag-free test-mass acceleration noise of both spacecraft, as Doppler noise.
 
-    ``S_y = (S_a,A + S_a,B) / ((2 pi f)^2 c^2)`` for independent test masses with one-sided
+    One-way: ``S_y = (S_a,A + S_a,B) / ((2 pi f)^2 c^2)`` for independent test masses with one-sided
     ``S_a = a^2 [1 + (f_c / f)^2]`` (a = per-test-mass ASD, f_c = optional low-frequency corner).
+    Two-way (round trip A -> B -> A): ``y2 = [v_A(t - 2L/c) + v_A(t) - 2 v_B(t - L/c)] / c``
+    (Armstrong 2006, Living Rev. Relativ. 9, 1, the three-pulse structure), so
+    ``S_y = 4 [S_a,B + cos^2(2 pi f L/c) S_a,A] / ((2 pi f)^2 c^2)``: 8 S_a below c/(8L), where
+    cos^2 >= 1/2 (exact as f -> 0), and its mean over the ripple, 6 S_a, above (the ripple of
+    +-1/3 about it, period c/(2L), is averaged; equal S_a on both spacecraft).
     """
-    level = _legs(design) * 2 * design.acceleration_noise**2 / ((2 * np.pi) ** 2 * c**2)
-    return [PowerLaw(level, -2), PowerLaw(level * design.acceleration_corner**2, -4)]
+    unit = design.acceleration_noise**2 / ((2 * np.pi) ** 2 * c**2)
+    corner2 = design.acceleration_corner**2
+    if design.path != "two-way":
+        level = 2 * unit
+        return [PowerLaw(level, -2), PowerLaw(level * corner2, -4)]
+    split = c / (8 * np.asarray(design.baseline, dtype=float))
+    near, far = 8 * unit, 6 * unit
+    return [PowerLaw(near, -2, split), PowerLaw(far, -2, np.inf, split),
+            PowerLaw(near * corner2, -4, split), PowerLaw(far * corner2, -4, np.inf, split)]
 
 
 @dataclass(frozen=True)
@@ -172,8 +216,12 @@ NOISES: dict[str, Noise] = {n.key: n for n in (
           "Itano et al. 1993, Phys. Rev. A 47, 3554"),
     Noise("shot", "photon shot (link)", "photon shot noise of the link, equivalent strain ASD", "#D55E00", (0, (2, 1.5)),
           "heterodyne shot noise h nu / P_r (standard optics)", shot_terms),
-    Noise("laser", "laser residual", "laser noise left after the common-mode cancellation, equivalent strain ASD",
-          "#009E73", (0, (6, 2, 1, 2)), "Barnes et al. 1971, IEEE Trans. Instrum. Meas. 20, 105", laser_residual_terms),
+    Noise("laser", "laser residual", "shared laser's noise left by the phase lock and the common-mode cancellation, "
+          "equivalent strain ASD", "#009E73", (0, (6, 2, 1, 2)),
+          "Barnes et al. 1971, IEEE Trans. Instrum. Meas. 20, 105; first-order loop tracking error", laser_residual_terms),
+    Noise("receiver", "receiving laser", "receiving laser's own noise left by its phase lock, equivalent strain ASD",
+          "#E69F00", (0, (3, 1, 1, 1, 1, 1)), "first-order loop tracking error |1 - H|^2 (standard control theory)",
+          receiver_terms),
     Noise("acceleration", "test-mass acceleration", "drag-free test-mass acceleration noise, equivalent strain ASD",
           "#CC79A7", (0, (1, 1)), "Armano et al. 2016, Phys. Rev. Lett. 116, 231101", acceleration_terms),
 )}

@@ -26,6 +26,7 @@ from ..constants import c
 
 __all__ = [
     "phase_lock_transfer",
+    "phase_lock_error",
     "one_way_average",
     "two_way_average",
     "link_response",
@@ -141,6 +142,14 @@ def phase_lock_transfer(frequency, bandwidth):
     """
     f = np.asarray(frequency, dtype=float)
     return 1.0 / (1.0 + (f / bandwidth) ** 2)
+
+
+def phase_lock_error(frequency, bandwidth):
+    """Power of the tracking error ``|1 - H|^2 = (f/B)^2 / (1 + (f/B)^2)`` of the same first-order
+    loop ``H = 1 / (1 + i f/B)``: the share of the reference's noise (and of the receiving laser's
+    own noise) that the lock does not follow. ``phase_lock_transfer + phase_lock_error = 1``."""
+    x = (np.asarray(frequency, dtype=float) / bandwidth) ** 2
+    return x / (1.0 + x)
 
 
 def directional_response(frequency, baseline, mu, psi, path: str = "one-way"):
