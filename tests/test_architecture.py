@@ -97,7 +97,7 @@ class TestNoiseRegistry:
         f = np.geomspace(1e-3, 1.0, 40)
         b = window(load_mission(None)[0].design(), f, tune=0.05)
         np.testing.assert_allclose(b.psd[twin], b.psd["laser"], rtol=1e-12, atol=0)
-        np.testing.assert_allclose(b.total, sum(b.psd[k] for k in ("projection", "shot", "laser", "receiver", "acceleration", twin)),
+        np.testing.assert_allclose(b.total, sum(b.psd[k] for k in ("projection", "shot", "laser", "receiver", "clock", "acceleration", twin)),
                                    rtol=1e-12, atol=0)
 
     def test_tables_and_figures_show_a_new_noise(self, twin):

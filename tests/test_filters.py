@@ -238,14 +238,6 @@ def test_cpmg_lobe_areas_add_up_to_parseval():
     assert area == pytest.approx(T / 2, rel=2e-6, abs=0)  # tail of the sum ~ 1/(2 k_max)
 
 
-def test_background_scan_refuses_a_kind_without_lobe_areas():
-    from gwclock.studies.background import clock_scan_power_law
-    m = load_mission(None)[0]
-    d = m.design().replace(kind="custom", pulse_times=(0.25, 0.75))
-    with pytest.raises(ValueError, match="lobe areas"):
-        clock_scan_power_law(d, [0.05, 0.1], 3e7, np.geomspace(0.01, 1, 10))
-
-
 @pytest.mark.parametrize("lo, hi", [(80.0, 400.0), (90.0, 400.0), (100.0, 400.0), (40.0, 2000.0)])
 def test_band_limited_white(lo, hi):
     # the odd-harmonic lobe model (Cywinski et al. 2008, Phys. Rev. B 77, 174509) of a band [lo, hi)

@@ -99,6 +99,12 @@ class Clock(_Section):
     squeezing_db: _number(0, 20) = Field(0.0, description="metrological squeezing gain in dB")
     pi_pulse_duration: _quantity("s", 1e-9, 1e3) = Field("10 ms", description="duration of one pi pulse")
     pulse_error: _number(0, 0.5) = Field(1e-4, description="fractional contrast loss per pi pulse")
+    instability_white: _number(0, 1e-10) = Field(
+        0.0, description="each clock's own white-FM instability, Allan deviation at 1 s (0: none)")
+    instability_flicker: _number(0, 1e-10) = Field(
+        0.0, description="each clock's own flicker-FM floor of the Allan deviation (0: none)")
+    instability_walk: _number(0, 1e-10) = Field(
+        0.0, description="each clock's slow random-walk drift, Allan deviation at 1 day (0: none)")
 
     @model_validator(mode="after")
     def _species_known(self):
@@ -137,6 +143,8 @@ class Sequence(_Section):
     max_interrogation: _quantity("s", 1e-3, 1e6) | None = Field(None, description="longest interrogation allowed (default: 3 coherence times)")
     tune: Annotated[Literal["auto"] | u.Quantity, BeforeValidator(_tuning)] = Field("auto", description="fixed tuning frequency, or auto")
     comparison: Literal["linear", "correlated", "auto"] = Field("auto", description="two-clock read-out")
+    phase_offset: _quantity("rad", 0, 1.5, lo_open=True) = Field(
+        "0.1 rad", description="differential phase offset of the correlated read-out (needed to recover the sign)")
     pulse_times: tuple[float, ...] | None = Field(None, description="custom only: pi-pulse centres as fractions of the interrogation")
 
     @model_validator(mode="after")
@@ -221,6 +229,9 @@ class Mission(_Section):
             squeezing=10 ** (-self.clock.squeezing_db / 10),
             pi_pulse_duration=si(self.clock.pi_pulse_duration, u.s),
             pulse_error=self.clock.pulse_error,
+            clock_white=self.clock.instability_white,
+            clock_flicker=self.clock.instability_flicker,
+            clock_walk=self.clock.instability_walk,
             baseline=si(self.link.baseline, u.m),
             transmit_power=si(self.link.transmit_power, u.W),
             transmit_aperture=si(self.link.transmit_aperture, u.m),
@@ -242,6 +253,7 @@ class Mission(_Section):
             max_interrogation=si(self.max_interrogation, u.s),
             tune=tune,
             comparison=self.sequence.comparison,
+            phase_offset=si(self.sequence.phase_offset, u.rad),
             pulse_times=tuple(self.sequence.pulse_times or ()),
             duration=si(self.observation.duration, u.s),
         )

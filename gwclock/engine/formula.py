@@ -59,7 +59,8 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
         correlated = cm > projection.CORRELATED_THRESHOLD
     else:
         correlated = np.full(shape, design.comparison == "correlated")
-    var = projection.phase_variance(design.atom_number, log_c, design.squeezing, correlated)
+    var = projection.phase_variance(design.atom_number, log_c, design.squeezing, correlated,
+                                    offset=design.phase_offset)
     inv_G0sq = 1.0 / G0sq
     out = {"projection": projection_term(design, Tc, var, G0sq)}
     for name, terms_of in noises.stationary_noises().items():

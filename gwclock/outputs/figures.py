@@ -121,6 +121,8 @@ class _Canvas:
         if item.noises:
             for name, nst in noise_styles().items():
                 y = self.form(f, b.psd[name])
+                if not np.any(y > 0):
+                    continue  # a noise the mission does not have gets no legend entry
                 (c,) = ax.plot(f, np.where(y > 0, y, np.nan), color=nst["color"], linestyle=nst["linestyle"],
                                lw=0.9 * self.lw_scale, label=f"  {nst['label']}")
                 self.artists["curves"].append(c)

@@ -52,6 +52,8 @@ def plot_budget(budget, ax=None, title=None, components=True):
     if components:
         for name, style in noise_styles().items():
             y = budget.asd_of(name)
+            if not np.any(y > floor):
+                continue  # a noise the mission does not have (zero everywhere) gets no legend entry
             y = np.where(y > floor, y, np.nan)
             (artists[name],) = ax.plot(f, y, lw=1.3, **style)
     label = "total (tuned envelope)" if budget.mode == "envelope" else \

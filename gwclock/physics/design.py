@@ -26,6 +26,9 @@ class Design:
     squeezing: float
     pi_pulse_duration: float
     pulse_error: float
+    clock_white: float
+    clock_flicker: float
+    clock_walk: float
     baseline: float
     transmit_power: float
     transmit_aperture: float
@@ -45,6 +48,7 @@ class Design:
     max_interrogation: float
     tune: float | None
     comparison: str
+    phase_offset: float
     pulse_times: tuple[float, ...]
     duration: float
 

@@ -25,7 +25,7 @@ import numpy as np
 from ..constants import c, h
 
 __all__ = ["PowerLaw", "Noise", "psd", "received_power", "shot_terms", "laser_terms", "laser_residual_terms",
-           "receiver_laser_terms", "receiver_terms",
+           "receiver_laser_terms", "receiver_terms", "clock_terms", "WALK_TAU",
            "acceleration_terms", "pulse_bandwidth", "NOISES", "stationary_noises"]
 
 
@@ -173,6 +173,22 @@ def acceleration_terms(design):
             PowerLaw(near * corner2, -4, split), PowerLaw(far * corner2, -4, np.inf, split)]
 
 
+#: Averaging time (s) at which ``clock.instability_walk`` is quoted: one day.
+WALK_TAU = 86400.0
+
+
+def clock_terms(design):
+    """Each clock's own frequency instability (independent of the laser and of the other clock),
+    for both clocks: white FM ``h_0 = 2 sigma_w^2 * 1 s``, flicker FM ``h_-1 = sigma_f^2 / (2 ln 2)``
+    and random-walk FM ``h_-2 = 3 sigma_d^2 / (2 pi^2 tau_d)`` from Allan deviations sigma_w at 1 s,
+    a floor sigma_f and sigma_d at tau_d = 1 day (the power-law Allan variances of Barnes et al.
+    1971). The atoms integrate it with the same sensitivity function g(t) as the laser's noise, so
+    a DD sequence suppresses a slow drift that Ramsey interrogation is fully exposed to."""
+    return [PowerLaw(2 * 2 * design.clock_white**2, 0),
+            PowerLaw(2 * design.clock_flicker**2 / (2 * np.log(2)), -1),
+            PowerLaw(2 * 3 * design.clock_walk**2 / (2 * np.pi**2 * WALK_TAU), -2)]
+
+
 @dataclass(frozen=True)
 class Noise:
     """One noise of the budget, with everything the rest of gwclock needs to know about it.
@@ -222,6 +238,8 @@ NOISES: dict[str, Noise] = {n.key: n for n in (
     Noise("receiver", "receiving laser", "receiving laser's own noise left by its phase lock, equivalent strain ASD",
           "#E69F00", (0, (3, 1, 1, 1, 1, 1)), "first-order loop tracking error |1 - H|^2 (standard control theory)",
           receiver_terms),
+    Noise("clock", "clock instability", "each clock's own frequency instability (both clocks), equivalent strain ASD",
+          "#56B4E9", (0, (4, 1, 1, 1)), "Barnes et al. 1971, IEEE Trans. Instrum. Meas. 20, 105", clock_terms),
     Noise("acceleration", "test-mass acceleration", "drag-free test-mass acceleration noise, equivalent strain ASD",
           "#CC79A7", (0, (1, 1)), "Armano et al. 2016, Phys. Rev. Lett. 116, 231101", acceleration_terms),
 )}

@@ -9,7 +9,8 @@ is P_n / Gamma = 2 S_n). H0 is astropy's Planck18 value.
 Broadband references use the single-detector known-noise power-law integrated curve
 ``Omega_beta = rho / sqrt(T integral (f/f_ref)^(2 beta) / Omega_n^2 df)``. The clock mission is a
 narrow-band detector and is computed per cycle (after Thrane & Romano 2013): at tuning i with N_i cycles
-the known-noise SNR is ``sqrt(N_i/2) sigma_s^2 / sigma_n^2``; the time is shared evenly among
+the known-noise SNR is ``sqrt(N_i/2) sigma_s^2 / sigma_n^2``, with the signal variance the exact
+integral over the sequence's filter function; the time is shared evenly among
 the tunings of a scan (the time-sharing assumption, stated in every output). A single link is one
 detector: it needs a noise model, or a second independent link to cross-correlate.
 
@@ -28,10 +29,11 @@ from ..physics import response
 from ..physics.sequences import SEQUENCES
 
 __all__ = ["hubble_constant", "omega_from_strain_psd", "strain_psd_from_omega", "omega_noise",
-           "power_law_integrated", "clock_scan_power_law", "SCAN_ASSUMPTION", "BETAS"]
+           "power_law_integrated", "clock_scan_power_law", "signal_kernel", "SCAN_ASSUMPTION", "BETAS"]
 
 BETAS = np.linspace(-8, 8, 161)
-SCAN_ASSUMPTION = ("clock scan: observing time shared evenly among the tunings listed; "
+SCAN_ASSUMPTION = ("clock scan: observing time shared evenly among the tunings listed; signal integrated over "
+                   "each sequence's filter from 1/dwell to the pulse bandwidth, cycles as independent samples; "
                    "known-noise single-link detection (needs a noise model or a second link)")
 
 
@@ -78,14 +80,78 @@ def power_law_integrated(f, s_n, observation, snr=1.0, f_ref=None, betas=BETAS, 
     return out
 
 
-def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None, betas=BETAS, h0=None, harmonics=40):
+#: Frequency grid of the signal integral: points per decade on the smooth parts, points per 1/T
+#: on the lobes of |G|^2, the highest harmonic resolved before the smooth tail, and the width in
+#: ln f of the bins that carry the integral into the sum over spectral indices.
+LOG_POINTS = 48
+LOBE_POINTS = 16
+LOBE_HARMONICS = 201
+BIN_WIDTH = 2e-3
+
+
+def _log_panel(a, b):
+    """Trapezoid nodes and weights in ln f on [a, b] (empty when b <= a)."""
+    if not b > a:
+        return np.zeros(0), np.zeros(0)
+    m = max(int(np.ceil(LOG_POINTS * np.log10(b / a))), 2) + 1
+    f = np.geomspace(a, b, m)
+    w = np.full(m, np.log(b / a) / (m - 1))
+    w[[0, -1]] *= 0.5
+    return f, w * f
+
+
+def signal_kernel(design, kind, n, T, centre, f_low):
+    """Nodes f_j and weights c_j (s) with ``sum_j c_j S_h(f_j) ~ integral R1 |H|^2 S_h |G|^2 df``.
+
+    The integral runs from ``f_low`` to the pulse bandwidth 1/(2 t_pi), with the sequence's exact
+    |G(f)| (``kind.modulus``): on a log grid below 1/(4T), where |G|^2 is smooth (its leakage at low
+    frequency, which dominates for steep red spectra); on a uniform grid of LOBE_POINTS per 1/T across
+    the lobes up to the LOBE_HARMONICS-th harmonic of ``centre``; above that with |G|^2 replaced by
+    its mean ``A / f^2`` (A measured over the last harmonic cells of the uniform grid). The
+    weights are then summed into bins of BIN_WIDTH in ln f (at the weighted mean ln f of each bin),
+    which keeps a power law f^p exact to ~p^2 BIN_WIDTH^2 / 24.
+    """
+    top = 1.0 / (2.0 * design.pi_pulse_duration)
+    split = min(1.0 / (4 * T), top)
+    f_a, c_a = _log_panel(f_low, split)
+    hi = min(top, max(LOBE_HARMONICS * centre, 64.0 / T))
+    step = 1.0 / (LOBE_POINTS * T)
+    m = max(int(np.ceil((hi - split) / step)), 1) + 1
+    f_b = np.linspace(split, hi, m) if hi > split else np.zeros(0)
+    c_b = np.full(f_b.size, (hi - split) / max(m - 1, 1))
+    if f_b.size:
+        c_b[[0, -1]] *= 0.5
+    f_ab = np.concatenate((f_a, f_b))
+    G2 = kind.modulus(design, f_ab, n, T) ** 2
+    c_ab = np.concatenate((c_a, c_b)) * G2
+    f_c, c_c = _log_panel(hi, top)
+    if f_c.size and f_b.size:
+        cell = f_b >= hi - max(4 * centre, 8.0 / T)
+        A = np.mean(f_b[cell] ** 2 * G2[f_a.size:][cell])
+        c_c = c_c * A / f_c**2
+    f = np.concatenate((f_ab, f_c))
+    c = np.concatenate((c_ab, c_c if f_b.size else np.zeros(f_c.size)))
+    c = c * 0.5 * response.link_response(f, design.baseline, design.path) * \
+        response.phase_lock_transfer(f, design.phase_lock_bandwidth)
+    keep = c > 0
+    f, c = f[keep], c[keep]
+    lf = np.log(f)
+    index = np.floor((lf - lf.min()) / BIN_WIDTH).astype(np.intp)
+    weight = np.bincount(index, c)
+    used = weight > 0
+    mean_lf = np.bincount(index, c * lf)[used] / weight[used]
+    return np.exp(mean_lf), weight[used]
+
+
+def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None, betas=BETAS, h0=None):
     """Power-law integrated curve of the clock mission scanning ``tunings`` with equal dwell.
 
     For each tuning the per-cycle signal variance of a background of unit amplitude,
-    ``(2 pi nu0)^2 integral R1 |H_PLL|^2 S_h |G|^2 df``, is summed over the odd harmonics of the
-    DD filter (the kind's ``lobe_areas``, 4T/(pi^2 k^2) for CPMG timing; Ramsey uses its low-pass
-    main lobe), and the per-cycle
-    noise variance is ``(2 pi nu0)^2 |G(f0)|^2 S_y,eq / (2 Tc)``.
+    ``(2 pi nu0)^2 integral R1 |H_PLL|^2 S_h |G|^2 df``, is the exact integral over the sequence's
+    filter function (:func:`signal_kernel`, any kind), from 1/dwell (slower signal is a constant
+    offset over a tuning's dwell) to the pulse bandwidth; the per-cycle noise variance is
+    ``(2 pi nu0)^2 |G(f0)|^2 S_y,eq / (2 Tc)``. Cycles are taken as independent samples of the
+    signal (conservative for signal that is correlated from cycle to cycle).
 
     Returns
     -------
@@ -101,41 +167,31 @@ def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None
     T = np.asarray(best["interrogation"], dtype=float)
     n = np.asarray(best["pulses"], dtype=float)
     Tc = np.asarray(best["cycle"], dtype=float)
-    dd = n > 0
     kind = SEQUENCES[design.kind]
-    # the noise of a tuning is quoted at f_k through |G(f_k)|^2 (a sequence with a free interrogation
-    # is not centred on f_k); its lobes sit at the odd harmonics of the sequence's own tuning
-    G0sq = (T * np.sinc(fk * T)) ** 2
-    centre = fk.copy()
-    if np.any(dd):
-        G0sq[dd] = kind.modulus(design, fk[dd], n[dd], T[dd]) ** 2
-        if hasattr(kind, "tuning"):
-            centre[dd] = kind.tuning(n[dd], T[dd])
-    sigma_n2 = G0sq * sy / (2 * Tc)  # divided by (2 pi nu0)^2, which cancels
-    cycles = observation / fk.size / Tc
-    k = 2 * np.arange(harmonics) + 1.0
+    ramsey = SEQUENCES["ramsey"]
+    dwell = observation / fk.size
+    cycles = dwell / Tc
     f_ref = f_ref or float(np.sqrt(fk[0] * fk[-1]))
-
-    if np.any(dd) and not hasattr(kind, "lobe_areas"):
-        raise ValueError(f"the clock-scan background needs the lobe areas of the filter function; the {design.kind} "
-                         "kind does not provide them (use cpmg, xy8 or echo)")
-    weight = kind.lobe_areas(design, centre, n, T, k) if np.any(dd) else np.zeros((fk.size, k.size))
-
-    def signal_variance(beta):
-        fh = centre[:, None] * k[None, :]
-        resp = 0.5 * response.link_response(fh, design.baseline, design.path) * \
-            response.phase_lock_transfer(fh, design.phase_lock_bandwidth)
-        sh = strain_psd_from_omega(fh, (fh / f_ref) ** beta, h0)
-        dd = np.sum(weight * resp * sh, axis=1)
-        # Ramsey: low-pass lobe of area T/2 around f0 (an approximation over the main lobe)
-        ramsey = (T / 2) * 0.5 * response.link_response(fk, design.baseline, design.path) * \
-            strain_psd_from_omega(fk, (fk / f_ref) ** beta, h0)
-        return np.where(n > 0, dd, ramsey)
+    G0sq = np.empty(fk.size)
+    kernels = []
+    for i in range(fk.size):
+        # the noise of a tuning is quoted at f_k through |G(f_k)|^2 (a sequence with a free
+        # interrogation is not centred on f_k); its lobes sit at the harmonics of its own tuning
+        k = kind if n[i] > 0 else ramsey
+        centre = kind.tuning(n[i], T[i]) if n[i] > 0 and hasattr(kind, "tuning") else fk[i]
+        G0sq[i] = k.modulus(design, fk[i:i + 1], n[i], T[i])[0] ** 2
+        kernels.append(signal_kernel(design, k, n[i], T[i], centre, 1.0 / dwell))
+    sigma_n2 = G0sq * sy / (2 * Tc)  # divided by (2 pi nu0)^2, which cancels
+    nodes = np.concatenate([f for f, _ in kernels])
+    owner = np.repeat(np.arange(fk.size), [f.size for f, _ in kernels])
+    weights = np.concatenate([c for _, c in kernels])
+    base = weights * strain_psd_from_omega(nodes, 1.0, h0)
+    log_x = np.log(nodes / f_ref)
 
     grid = np.asarray(grid, dtype=float)
     out = np.zeros_like(grid)
     for beta in betas:
-        s2 = signal_variance(beta)
+        s2 = np.bincount(owner, base * np.exp(beta * log_x), minlength=fk.size)
         snr1 = np.sqrt(np.sum(cycles / 2 * (s2 / sigma_n2) ** 2))
         out = np.maximum(out, snr / snr1 * (grid / f_ref) ** beta)
     return out
