@@ -33,7 +33,7 @@ def quiet_design(**changes):
         transmit_power=1e18, linewidth=0.0, flicker_floor=0.0, gain_mismatch=0.0,
         receiver_linewidth=0.0, receiver_flicker_floor=0.0, clock_white=0.0, clock_flicker=0.0, clock_walk=0.0,
         acceleration_noise=0.0, timing_mismatch=0.0, comparison="linear", dead_time=0.0,
-        pulse_error=0.0, pi_pulse_duration=1e-6, phase_lock_bandwidth=1e9,
+        pulse_error=0.0, pulse_errors="incoherent", pi_pulse_duration=1e-6, phase_lock_bandwidth=1e9,
         coherence_time=1e15, squeezing=1.0,
     )
     base.update(changes)

@@ -170,9 +170,10 @@ def test_killed_run_leaves_the_old_output_intact(tmp_path, sig):
     # signal the run once its first chunk is in the temporary file: mid-write, whatever the machine's speed
     deadline = time.monotonic() + 120
     while time.monotonic() < deadline and proc.poll() is None:
-        if any(p.stat().st_size > 0 for p in tmp_path.glob(".table.ecsv.*")):
+        if any(p.stat().st_size > 0 for p in tmp_path.glob(".table.*.part.ecsv")):
             break
         time.sleep(0.02)
+    assert time.monotonic() < deadline  # the temporary file has its first chunk
     assert proc.poll() is None  # still writing
     proc.send_signal(sig)
     proc.wait(timeout=60)

@@ -23,6 +23,7 @@ transmit_aperture = "1 m"
 receive_aperture = "1 m"
 optical_efficiency = 1.0
 timing_mismatch = "0 s"
+phase_lock_bandwidth = "10 Hz"  # both lasers are noiseless: a narrow lock only narrows the shot noise
 [clock]
 species = "Sr87"
 atom_number = 1e5

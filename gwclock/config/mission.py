@@ -99,6 +99,8 @@ class Clock(_Section):
     squeezing_db: _number(0, 20) = Field(0.0, description="metrological squeezing gain in dB")
     pi_pulse_duration: _quantity("s", 1e-9, 1e3) = Field("10 ms", description="duration of one pi pulse")
     pulse_error: _number(0, 0.5) = Field(1e-4, description="fractional contrast loss per pi pulse")
+    pulse_errors: Literal["coherent", "incoherent"] = Field(
+        "coherent", description="how pulse errors add up: coherent (worst phase, conservative) or incoherent")
     instability_white: _number(0, 1e-10) = Field(
         0.0, description="each clock's own white-FM instability, Allan deviation at 1 s (0: none)")
     instability_flicker: _number(0, 1e-10) = Field(
@@ -229,6 +231,7 @@ class Mission(_Section):
             squeezing=10 ** (-self.clock.squeezing_db / 10),
             pi_pulse_duration=si(self.clock.pi_pulse_duration, u.s),
             pulse_error=self.clock.pulse_error,
+            pulse_errors=self.clock.pulse_errors,
             clock_white=self.clock.instability_white,
             clock_flicker=self.clock.instability_flicker,
             clock_walk=self.clock.instability_walk,

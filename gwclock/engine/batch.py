@@ -20,7 +20,7 @@ from .formula import signal_response, total_psd
 
 __all__ = ["batch_budget"]
 
-_CATEGORICAL = ("name", "kind", "path", "comparison", "pulse_times", "tune")
+_CATEGORICAL = ("name", "kind", "path", "comparison", "pulse_times", "tune", "pulse_errors")
 
 
 def _groups(designs):

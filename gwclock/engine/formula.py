@@ -17,7 +17,7 @@ from ..physics import noises, projection, response
 from ..physics.design import Design
 from .budget import hertz
 
-__all__ = ["evaluate", "evaluate_free", "linear_noise", "projection_term", "total_psd", "pick", "signal_response"]
+__all__ = ["evaluate", "evaluate_free", "linear_noise", "pulse_log_contrast", "projection_term", "total_psd", "pick", "signal_response"]
 
 
 def linear_noise(design, kind, f0):
@@ -48,8 +48,7 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
     shape = np.broadcast(f0, n, T).shape
     n, T = np.broadcast_to(n, shape), np.broadcast_to(T, shape)
     Tc = T + design.dead_time
-    eps = kind.pulse_error(design)
-    log_c = -T / design.coherence_time + n * np.log1p(-eps)
+    log_c = -T / design.coherence_time + pulse_log_contrast(design, kind, n)
     G0sq = kind.fundamental(design, f0, n, T) ** 2
     if design.comparison == "auto":
         if linear is None:
@@ -90,6 +89,23 @@ def evaluate_free(design: Design, kind, f, n, T):
     for name in noises.NOISES:
         parts[name] = parts[name] * gain
     return parts
+
+
+def pulse_log_contrast(design, kind, n):
+    """ln of the contrast left by n pi pulses with per-pulse loss eps (``kind.pulse_error``).
+
+    ``"incoherent"``: independent errors, ``n ln(1 - eps)``. ``"coherent"`` (the conservative
+    default): a systematic flip-angle error beta_1 = arccos(1 - eps) per pulse (so that one pulse
+    loses eps) adds up for a spin perpendicular to the pulse axis, contrast ``cos(n beta_1)``, none
+    past n beta_1 = pi/2 (exact composition of rotations about one axis; the accumulation of
+    flip-angle errors in Carr-Purcell-type trains is discussed by Souza, Alvarez & Suter 2012,
+    Phil. Trans. R. Soc. A 370, 4748)."""
+    eps = kind.pulse_error(design)
+    n = np.asarray(n, dtype=float)
+    if design.pulse_errors == "incoherent":
+        return n * np.log1p(-eps)
+    angle = n * np.arccos(1.0 - eps)
+    return np.where(angle < np.pi / 2, np.log(np.maximum(np.cos(np.minimum(angle, np.pi / 2)), 1e-300)), np.log(1e-300))
 
 
 def projection_term(design, Tc, var, G0sq):

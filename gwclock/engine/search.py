@@ -39,6 +39,10 @@ FREE_XTOL = 1e-5
 _GOLD = (3 - np.sqrt(5)) / 2
 
 
+#: Root of x tan x = 1/2 (the projection-limited optimum under coherent pulse errors).
+_COHERENT_X = 0.6532711870944031
+
+
 def _periodic_wishes(design, kind, f0, linear):
     """Candidate interrogation times for a CPMG-timed kind: the analytic optimum of each read-out
     mode, both sides of the linear/correlated switch, and the ends of the allowed range."""
@@ -65,6 +69,14 @@ def _periodic_wishes(design, kind, f0, linear):
         with np.errstate(divide="ignore"):
             t_sw = np.where(cm1 > 0, projection.CORRELATED_THRESHOLD / cm1, hi)
         wishes.append(np.clip(t_sw, lo, hi))
+    if design.pulse_errors == "coherent":
+        # coherent pulse errors: contrast cos(n beta_1), n = 2 f0 T. Projection-limited, S ~ 1/(T cos^2(k T))
+        # with k = 2 f0 beta_1 is least at x tan x = 1/2, x = k T = 0.6533 (the incoherent wishes above
+        # overshoot into trains whose contrast is gone)
+        beta = np.arccos(1.0 - kind.pulse_error(design))
+        with np.errstate(divide="ignore"):
+            t_coh = np.where(beta > 0, _COHERENT_X / (2 * f0 * np.maximum(beta, 1e-300)), hi)
+        wishes.append(np.clip(t_coh, lo, hi))
     step = kind.step / (4 * f0)
     out = [lo, hi]
     for w in wishes:

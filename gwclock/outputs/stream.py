@@ -43,6 +43,7 @@ class TableStream:
             lines = [ln for ln in text.splitlines(keepends=True) if not ln.startswith("#")]
             text = "".join(lines[1:])  # drop the column-name line
         self._fh.write(text)
+        self._fh.flush()  # each finished chunk is on disk (in the temporary file) as it comes
         self.rows += len(table)
 
     def close(self):

@@ -26,6 +26,7 @@ class Design:
     squeezing: float
     pi_pulse_duration: float
     pulse_error: float
+    pulse_errors: str
     clock_white: float
     clock_flicker: float
     clock_walk: float
