@@ -17,6 +17,7 @@ from .conftest import quiet_design
 
 DESIGN = quiet_design(acceleration_noise=3e-15, linewidth=0.1, flicker_floor=4e-17, timing_mismatch=1e-6,
                       receiver_linewidth=0.3, receiver_flicker_floor=1e-16,
+                      clock_white=1e-16, clock_flicker=1e-18, clock_walk=1e-18,
                       gain_mismatch=1e-3, transmit_power=1.0, phase_lock_bandwidth=10.0, pi_pulse_duration=0.01,
                       coherence_time=100.0, dead_time=1.0, acceleration_corner=4e-4)
 
