@@ -90,3 +90,11 @@ def test_receiving_laser_defaults_to_the_master_laser():
     d2 = mission_from_dict(data, "test").design()
     assert d2.receiver_linewidth == pytest.approx(0.5, rel=1e-15, abs=0)
     assert d2.receiver_flicker_floor == 3e-16
+
+
+def test_check_shows_the_receiving_laser_in_force():
+    from gwclock.outputs.summary import describe_mission
+    m, digest = load_mission(None)
+    text = describe_mission(m, digest)
+    assert "receiver_linewidth = 0.01 Hz  (same as linewidth)" in text
+    assert "receiver_flicker_floor = 4e-17  (same as flicker_floor)" in text

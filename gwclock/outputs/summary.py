@@ -24,6 +24,10 @@ def describe_mission(mission, digest):
             elif key == "max_interrogation" and value is None:
                 value = mission.max_interrogation
                 note = "  (3 coherence times)"
+            elif key in ("receiver_linewidth", "receiver_flicker_floor") and value is None:
+                master = key.removeprefix("receiver_")
+                value = getattr(model, master)
+                note = f"  (same as {master})"
             else:
                 note = ""
             if isinstance(value, u.Quantity):
