@@ -67,3 +67,16 @@ def test_offset_cost_limits():
     small, half = offset_cost(C, 0.1) - 1, offset_cost(C, 0.05) - 1
     assert np.all((small > 0.008) & (small < 0.012))
     np.testing.assert_allclose(small / half, 4.0, rtol=0.12, atol=0)
+
+
+def test_offset_cost_elementwise_for_swept_offsets():
+    # a sweep of sequence.phase_offset hands the engine one offset per point: the same values as
+    # one offset at a time, and none (1) where the offset is zero
+    C = np.array([0.3, 0.6, 0.9, 0.6])
+    offsets = np.array([0.1, 1.0, 0.1, 0.0])
+    got = offset_cost(C, offsets)
+    one_by_one = [float(offset_cost(c, o)) for c, o in zip(C, offsets)]
+    np.testing.assert_array_equal(got, one_by_one)
+    assert got[-1] == 1.0
+    var = phase_variance(1e5, np.log(C), correlated=True, offset=offsets)
+    np.testing.assert_allclose(var / phase_variance(1e5, np.log(C), correlated=True), got, rtol=1e-14, atol=0)
