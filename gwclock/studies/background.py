@@ -25,7 +25,7 @@ import numpy as np
 
 from ..engine import best_sequence
 from ..engine.formula import total_psd
-from ..physics import response
+from ..physics import noises, response
 from ..physics.sequences import SEQUENCES
 
 __all__ = ["hubble_constant", "omega_from_strain_psd", "strain_psd_from_omega", "omega_noise",
@@ -111,7 +111,7 @@ def signal_kernel(design, kind, n, T, centre, f_low):
     weights are then summed into bins of BIN_WIDTH in ln f (at the weighted mean ln f of each bin),
     which keeps a power law f^p exact to ~p^2 BIN_WIDTH^2 / 24.
     """
-    top = 1.0 / (2.0 * design.pi_pulse_duration)
+    top = noises.pulse_bandwidth(design)
     split = min(1.0 / (4 * T), top)
     f_a, c_a = _log_panel(f_low, split)
     hi = min(top, max(LOBE_HARMONICS * centre, 64.0 / T))
