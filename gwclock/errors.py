@@ -36,9 +36,16 @@ class InputError(Exception):
             parts.append(str(self.source))
         if self.field:
             parts.append(self.field)
-        head = ": ".join(parts)
+        head = _visible(": ".join(parts))
         text = self.message
         if self.value is not None:
             text = f"got {self.value!r}; {text}"
-        text = " ".join(text.split())  # always one line
+        text = _visible(" ".join(text.split()))  # always one line
         return f"{head}: {text}" if head else text
+
+
+def _visible(text: str) -> str:
+    """Escape what a terminal would not show as itself (newlines, NUL, bidirectional controls)."""
+    if text.isprintable():
+        return text
+    return "".join(c if c.isprintable() else c.encode("unicode_escape").decode("ascii") for c in text)

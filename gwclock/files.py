@@ -57,15 +57,17 @@ def is_input(path) -> bool:
 
 
 def inside(base, relative, source, field) -> Path:
-    """``base / relative``, refused (InputError) unless it resolves inside the folder ``base``: a
-    path written in a file (a figure spec) reaches only that file's own folder and below."""
+    """``base / relative``, refused (InputError) unless it resolves inside the folder ``base`` or the
+    current working folder: a path written in a file (a figure spec) reaches only that file's own
+    folder, the folder the user runs in, and below."""
     base = Path(base)
     p = base / relative
-    root, target = base.resolve(), p.resolve()
-    if target != root and root not in target.parents:
-        raise InputError("a path in this file must stay inside its folder (give other paths on the command line)",
-                         source=str(source), field=field, value=str(relative))
-    return p
+    target = p.resolve()
+    for root in (base.resolve(), Path.cwd().resolve()):
+        if target == root or root in target.parents:
+            return p
+    raise InputError("a path in this file must stay inside its folder or the working folder (give other paths "
+                     "on the command line)", source=str(source), field=field, value=str(relative))
 
 
 def check_output_path(path, kinds) -> Path:

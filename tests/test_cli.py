@@ -112,6 +112,10 @@ def test_bad_command_lines(tmp_path, monkeypatch, capsys, argv, fragment):
 @pytest.mark.parametrize("name, content, fragment", [
     ("deep.toml", "a = " + "[" * 100_000 + "]" * 100_000 + "\n", "nested too deeply"),
     ("big.toml", "# " + "x" * (17 * 2**20) + "\n", "larger than 16 MiB"),
+    # keys a terminal would not show as themselves are escaped, so the message stays one honest line
+    ("newline.toml", '[link]\n"bad\\nkey" = 1\n', "link.bad\\nkey: unknown key"),
+    ("bidi.toml", '[link]\n"bad\\u202ekey" = 1\n', "link.bad\\u202ekey: unknown key"),
+    ("nul.toml", '[link]\n"bad\\u0000key" = 1\n', "link.bad\\x00key: unknown key"),
     ("power.toml", None, "link.transmit_power: got '5e-324 W'; expected a value >= 1e-15 W"),
     ("aperture.toml", None, "link.transmit_aperture: got '1e-300 m'; expected a value >= 0.001 m"),
 ])

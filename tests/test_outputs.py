@@ -148,6 +148,11 @@ def test_a_spec_writes_only_inside_its_folder(tmp_path, capsys, out):
     (("fmin = \"1e-4 Hz\"", "fmin = \"1e3 Hz\""), "fmin must be below fmax"),
     (("redshift = 1", "redshift = 1\ndistance = \"1 Gpc\""), "exactly one of distance and redshift"),
     (("h0 = 1e-22", "h0 = -1"), "point[0].h0"),
+    # errors found while drawing name the spec file and the item too
+    (("confusion = 1", "confusion = 3"), "fig.toml: reference[0].confusion: got 3.0; the galactic confusion is tabulated"),
+    (("tune = \"0.1 Hz\"", "tune = \"1e5 Hz\""), "fig.toml: mission[1].tune: got 100000.0; sequence.tune 100000 Hz is outside"),
+    (("file = \"default\"", "file = \"nope.toml\""), "fig.toml: mission[0].file: "),
+    (("file = \"default\"", "file = \"/etc/hostname\""), "fig.toml: mission[0].file: got '/etc/hostname'; a path in this file must stay inside"),
 ])
 def test_bad_specs(tmp_path, capsys, change, fragment):
     p = spec_file(tmp_path)

@@ -10,7 +10,7 @@ from astropy.table import QTable, Table
 
 from gwclock.cli import main
 from gwclock.config.mission import load_mission
-from gwclock.engine import envelope
+from gwclock.engine import envelope, window
 from gwclock.errors import InputError
 from gwclock.studies.sweep import parse_metric, parse_vary, require
 
@@ -68,6 +68,27 @@ def test_sweep_equals_direct_evaluation(tmp_path, capsys):
         direct = np.sqrt(envelope(d, np.array([3e-3, 0.1])).total)
         assert row["asd@0.1Hz"].value == pytest.approx(direct[1], rel=1e-12, abs=0)
         assert row["asd@0.003Hz"].value == pytest.approx(direct[0], rel=1e-12, abs=0)
+
+
+def test_a_sweep_over_the_tuning_gives_each_tuning_its_window(tmp_path, capsys):
+    # a fixed tuning's response is its window; the window meets the envelope at its own tuning
+    # (the lock-in picture of a dynamical-decoupling clock: Kotler et al. 2011, Nature 473, 61)
+    p = tmp_path / "s.ecsv"
+    code, _, _ = run(["sweep", "--vary", "sequence.tune=3 mHz:0.3 Hz:3:log", "--metric", "asd@30 mHz",
+                      "--table", p], capsys)
+    assert code == 0
+    t = QTable.read(p)
+    assert t["sequence.tune"].unit == "Hz" and list(t["status"]) == ["ok"] * 3
+    m, _ = load_mission(None)
+    d = m.design()
+    for row in t:
+        f0 = float(row["sequence.tune"].value)
+        direct = np.sqrt(window(d, np.array([0.01, 0.03]), tune=f0).total[1])
+        assert row["asd@0.03Hz"].value == pytest.approx(direct, rel=1e-12, abs=0)
+    # tuned to the measured frequency: the envelope there; detuned by a decade either way: worse
+    at = np.sqrt(envelope(d, np.array([0.01, 0.03])).total[1])
+    assert t["asd@0.03Hz"][1].value == pytest.approx(at, rel=1e-9, abs=0)
+    assert t["asd@0.03Hz"][0].value > 1.5 * at and t["asd@0.03Hz"][2].value > 1.5 * at
 
 
 def test_projection_limited_sweep_follows_inverse_square_root(tmp_path, capsys, quiet):
@@ -223,6 +244,10 @@ def test_scan_command(tmp_path, capsys):
      "FIELD=REL_SIGMA"),
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "clock.atom_number=2"],
      "REL_SIGMA"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "link.baseline=1e-1e"],
+     "--perturb link.baseline: got '1e-1e'; REL_SIGMA must be a plain number"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "sequence.tune=0.1"],
+     "needs a fixed sequence.tune"),
     (["require", "--target", "band@1e-18<=1", "--vary", "clock.atom_number"], "one value"),
     (["require", "--target", "asd@1 Hz<=1e-19", "--vary", "link.baseline", "--bounds", "1e9:1e10"], "--bounds"),
     (["require", "--target", "asd@1 Hz<=1e-19", "--vary", "clock.atom_number", "--bounds", "5:1"], "0 < LO < HI"),

@@ -22,7 +22,7 @@ def cmd_plot(args):
     elif not args.out:
         out = str(inside(Path(args.spec).parent, out, args.spec, "out"))
     check_output_path(out, FIGURE_FORMATS)
-    fig, artists, prov = render_spec(spec, base_dir=Path(args.spec).parent)
+    fig, artists, prov = render_spec(spec, base_dir=Path(args.spec).parent, source=args.spec)
     save_spec_figure(fig, out, spec, digest, prov)
     print(f"wrote figure {out} ({len(artists['curves'])} curves)")
     return 0

@@ -15,7 +15,7 @@ import numpy as np
 from ..physics import noises
 from ..physics.design import Design
 from .budget import check_grid, hertz
-from .curves import envelope_parts
+from .curves import envelope_parts, window_parts
 from .formula import signal_response, total_psd
 
 __all__ = ["batch_budget"]
@@ -45,7 +45,8 @@ def _stack(designs, F):
 
 
 def batch_budget(designs, frequency, noise_terms=False):
-    """Tuned-envelope strain PSD of many designs on one frequency grid.
+    """Tuned-envelope strain PSD of many designs on one frequency grid; a design with a fixed
+    tuning (``design.tune``) gives the window of that tuning instead, as ``gwclock curve`` does.
 
     Parameters
     ----------
@@ -68,6 +69,10 @@ def batch_budget(designs, frequency, noise_terms=False):
         out.update({k: np.empty((V, F)) for k in noises.NOISES})
     for idx in _groups(designs):
         group = [designs[i] for i in idx]
+        if group[0].tune is not None:  # a fixed tuning: its window, not the envelope
+            for i, d in zip(idx, group):
+                _fill_window(out, i, d, f, noise_terms)
+            continue
         d = _stack(group, F)
         ff = np.tile(f, len(group))
         parts = envelope_parts(d, ff)
@@ -80,3 +85,15 @@ def batch_budget(designs, frequency, noise_terms=False):
             for k in noises.NOISES:
                 out[k][idx] = (parts[k] / R).reshape(len(group), F)
     return out
+
+
+def _fill_window(out, i, design, f, noise_terms):
+    """Row i of :func:`batch_budget` for a design with a fixed tuning: the window of that tuning."""
+    parts, best = window_parts(design, [design.tune], f)
+    R = signal_response(design, f)
+    out["total"][i] = total_psd(parts)[0] / R
+    out["interrogation"][i] = np.asarray(best["interrogation"], dtype=float)[0]
+    out["pulses"][i] = np.asarray(best["pulses"], dtype=float)[0]
+    if noise_terms:
+        for k in noises.NOISES:
+            out[k][i] = parts[k][0] / R

@@ -22,6 +22,7 @@ from ..config.figure_spec import FONTS, SIZES, FigureSpec, spec_from_dict
 from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
+from ..files import inside
 from ..studies.background import hubble_constant, omega_noise
 from ..version import __version__
 from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES, noise_styles, save_figure
@@ -40,34 +41,46 @@ def _transform(form, f, s_n, h0):
 YLABELS = {"asd": r"strain ASD [Hz$^{-1/2}$]", "hc": "characteristic strain", "omega": r"$\Omega_{\rm gw}$ sensitivity"}
 
 
-def render_spec(spec: FigureSpec | dict, base_dir=".", ax=None):
+def render_spec(spec: FigureSpec | dict, base_dir=".", ax=None, source="figure spec"):
     """Draw a spec (a FigureSpec, or a dict with the TOML's structure); returns (figure, artists
-    dict, provenance dict). Mission files are read relative to ``base_dir``."""
+    dict, provenance dict). Mission files are read relative to ``base_dir`` and must lie inside it
+    or the working folder; errors name ``source`` (the spec's file) and the item, e.g.
+    ``mission[1].file`` (counted from 0)."""
     import matplotlib as mpl
     if isinstance(spec, dict):
-        spec = spec_from_dict(spec)
+        spec = spec_from_dict(spec, source)
     with mpl.rc_context(FONTS[spec.size]):
-        return _render(spec, base_dir, ax)
+        return _render(spec, base_dir, ax, str(source))
 
 
-def _render(spec, base_dir, ax):
+def _render(spec, base_dir, ax, source):
     from matplotlib.figure import Figure
 
     if ax is None:
         fig = Figure(figsize=SIZES[spec.size], layout="constrained")
         ax = fig.add_subplot()
     canvas = _Canvas(spec, ax)
-    for item in spec.mission:
-        canvas.mission(item, base_dir)
-    for item in spec.reference:
-        canvas.reference(item)
+    kinds = [("mission", lambda item: canvas.mission(item, base_dir, source)), ("reference", canvas.reference)]
     if spec.form != "omega":
-        for item in spec.track:
-            canvas.track(item)
-        for item in spec.point:
-            canvas.point(item)
+        kinds += [("track", canvas.track), ("point", canvas.point)]
+    for kind, draw in kinds:
+        for i, item in enumerate(getattr(spec, kind)):  # counted from 0, as the spec's validation does
+            _drawn(draw, item, source, f"{kind}[{i}]")
     canvas.finish()
     return ax.figure, canvas.artists, canvas.provenance
+
+
+def _drawn(draw, item, source, where):
+    """Draw one item; a refusal names the spec file and the item (``mission[1].tune``)."""
+    try:
+        draw(item)
+    except InputError as exc:
+        if exc.source not in (None, source):  # a mission file's own error: keep its file name in the message
+            raise InputError(str(exc), source=source, field=f"{where}.file") from None
+        field = f"{where}.{exc.field}" if exc.field else where
+        raise InputError(exc.message, source=source, field=field, value=exc.value) from None
+    except ValueError as exc:
+        raise InputError(str(exc), source=source, field=where) from None
 
 
 #: The caption of each form: the convention in a few words.
@@ -102,11 +115,16 @@ class _Canvas:
         self.artists["curves"].append(ln)
         return ln
 
-    def mission(self, item, base_dir):
+    def mission(self, item, base_dir, source):
         f, ax = self.f, self.ax
-        path = None if item.file == "default" else (Path(base_dir) / item.file)
+        path = None if item.file == "default" else inside(base_dir, item.file, source, "file")
         mission, digest = load_mission(path)
         self.provenance["missions"].append(f"{mission.name} sha256 {digest}")
+        if item.mode == "window":  # the band this sequence can reach, as a mission file's tuning is checked
+            try:
+                mission = mission.clone(**{"sequence.tune": f"{item.tune!r} Hz"})
+            except InputError as exc:
+                raise InputError(exc.message, field="tune", value=item.tune) from None
         d = mission.design()
         if item.mode == "envelope":
             b = envelope(d, f)
@@ -115,7 +133,7 @@ class _Canvas:
             try:
                 b = window(d, f, tune=item.tune)
             except ValueError as exc:
-                raise InputError(str(exc), source=str(path or "default"), field="tune") from None
+                raise InputError(str(exc), field="tune", value=item.tune) from None
             label = item.label or f"{mission.name} (tuned to {item.tune:.3g} Hz)"
         ln = self.line(f, self.form(f, b.total), label)
         if item.noises:
@@ -145,11 +163,15 @@ class _Canvas:
         try:
             ref = get_reference(item.name)
         except KeyError as exc:
-            raise InputError(str(exc.args[0]), source="figure spec", field="reference.name", value=item.name) from None
+            raise InputError(str(exc.args[0]), field="name", value=item.name) from None
         opts = ref.options_for(item.confusion)
         fr = self.f[(self.f >= ref.band[0]) & (self.f <= ref.band[1])]
         if fr.size >= 2:
-            self.line(fr, self.form(fr, ref.network(fr, **opts)), item.label or ref.network_label, "reference")
+            try:
+                s_n = ref.network(fr, **opts)
+            except ValueError as exc:  # the only option a reference takes is the confusion time
+                raise InputError(str(exc), field="confusion", value=item.confusion) from None
+            self.line(fr, self.form(fr, s_n), item.label or ref.network_label, "reference")
 
     def _source_value(self, hc, f):
         """An inspiral's h_c in the spec's form: h_c itself, or 2 sqrt(f)|h~| = h_c / sqrt(f)."""

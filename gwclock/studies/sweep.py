@@ -58,6 +58,8 @@ def field_unit(mission, field, source="study specification"):
         return "s"
     if node is None and field == "sequence.max_interrogation":
         return "s"
+    if field == "sequence.tune":  # "auto" or a frequency; an axis of tunings gives each its window
+        return "Hz"
     if isinstance(node, bool) or not isinstance(node, (int, float)):
         raise InputError("only numeric fields can be varied", source=source, field=field)
     return ""
@@ -171,8 +173,11 @@ def evaluate_points(designs, metrics):
             for c in m.columns:
                 out[c] = np.zeros(0)
         return out
-    need_curve = any(m.kind in ("band", "snr", "horizon") for m in metrics)
-    curve = batch_budget(designs, BAND_GRID) if need_curve else None
+    curve = batch_budget(designs, BAND_GRID) if any(m.kind == "band" for m in metrics) else None
+    if any(m.kind in ("snr", "horizon") for m in metrics):
+        # schedules tune the clock themselves: they need the envelope, with a fixed tuning (if any) passed on
+        untuned = [d.replace(tune=None) for d in designs]
+        tracks = batch_budget(untuned, BAND_GRID)
     for m in metrics:
         if m.kind == "asd":
             out[m.columns[0]] = np.sqrt(batch_budget(designs, [m.arg])["total"][:, 0])
@@ -181,7 +186,7 @@ def evaluate_points(designs, metrics):
         elif m.kind == "power":
             out[m.columns[0]] = _power_needed(designs, m.arg)
         elif m.kind in ("snr", "horizon"):
-            values = _per_curve(designs, curve, m)
+            values = _per_curve(designs, untuned, tracks, m)
             for c, v in zip(m.columns, values):
                 out[c] = v
     return out
@@ -194,11 +199,12 @@ def _tuned_curves(designs, curve):
     return curves
 
 
-def _per_curve(designs, curve, m):
-    curves = _tuned_curves(designs, curve)
+def _per_curve(designs, untuned, curve, m):
+    curves = _tuned_curves(untuned, curve)
     if m.kind == "snr":
         sources, schedule = m.arg
-        return [np.array([clock_snr(c, s, schedule).snr for c in curves]) for s in sources]
+        tunes = [d.tune if schedule == "fixed" else None for d in designs]
+        return [np.array([clock_snr(c, s, schedule, tune=t).snr for c, t in zip(curves, tunes)]) for s in sources]
     return [np.array([horizon(lambda s, c=c: clock_snr(c, s, "track").snr, m.arg, 8.0)[0] for c in curves])]
 
 
@@ -223,8 +229,16 @@ def parse_perturb(text, mission, source="study specification", option="perturb")
     m = re.fullmatch(r"\s*([\w.]+)\s*=\s*([0-9.eE+-]+)\s*", text or "")
     if not m:
         raise InputError("expected FIELD=REL_SIGMA", source=source, field=option, value=text)
-    field, sigma = m.group(1), float(m.group(2))
+    field = m.group(1)
+    try:
+        sigma = float(m.group(2))
+    except ValueError:
+        raise InputError("REL_SIGMA must be a plain number", source=source, field=f"{option} {field}",
+                         value=m.group(2)) from None
     field_unit(mission, field, source)
+    if field == "sequence.tune" and mission.sequence.tune == "auto":
+        raise InputError("perturbing the tuning needs a fixed sequence.tune in the mission", source=source,
+                         field=f"{option} {field}", value="auto")
     if not 0 < sigma < 1:
         raise InputError("REL_SIGMA must lie in (0, 1)", source=source, field=option, value=text)
     return field, sigma
