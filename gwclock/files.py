@@ -133,13 +133,14 @@ class atomic_path:
         return False
 
 
-def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
-    """Read and parse a TOML input file (remembered as an input); every failure is an
-    :class:`~gwclock.errors.InputError` naming the file."""
+def read_input(path: str | Path, what: str = "file", kind: str = "TOML") -> bytes:
+    """The bytes of an input file (remembered as an input), read with a bound: /dev/zero or a huge
+    file is refused, not swallowed. Every failure is an :class:`~gwclock.errors.InputError` naming
+    the file."""
     p = Path(path)
     register_input(p)
     try:
-        with open(p, "rb") as fh:  # a bounded read: /dev/zero or a huge file is refused, not swallowed
+        with open(p, "rb") as fh:
             raw = fh.read(MAX_INPUT_BYTES + 1)
     except FileNotFoundError:
         raise InputError(f"{what} not found", source=str(p)) from None
@@ -148,7 +149,23 @@ def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
     except OSError as exc:
         raise InputError(f"cannot read the {what} ({exc.strerror})", source=str(p)) from None
     if len(raw) > MAX_INPUT_BYTES:
-        raise InputError(f"larger than {MAX_INPUT_BYTES // 2**20} MiB; expected a small TOML file", source=str(p))
+        raise InputError(f"larger than {MAX_INPUT_BYTES // 2**20} MiB; expected a small {kind} file", source=str(p))
+    return raw
+
+
+def read_text(path: str | Path, what: str = "file", kind: str = "text") -> str:
+    """An input file as UTF-8 text (a leading byte-order mark dropped), read as :func:`read_input` does."""
+    try:
+        return read_input(path, what, kind).decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError(f"not UTF-8 text; expected a {kind} file", source=str(path)) from None
+
+
+def read_toml(path: str | Path, what: str = "file") -> tuple[dict, bytes]:
+    """Read and parse a TOML input file (remembered as an input); every failure is an
+    :class:`~gwclock.errors.InputError` naming the file."""
+    p = Path(path)
+    raw = read_input(p, what)
     try:
         text = raw.decode("utf-8")
         return tomllib.loads(text), raw

@@ -265,6 +265,8 @@ def test_reference_and_track_figures(tmp_path, capsys):
     (["background", "--scan", "1 Hz:0.1 Hz:3"], "--scan"),
     (["background", "--scan", "1 Hz"], "F1:F2:COUNT"),
     (["snr", "--frequency", "3 mHz"], "--h0"),
+    (["snr", "--mass1", "1e300", "--mass2", "30", "--redshift", "1"], "--mass1: got '1e300'; expected a mass from 0.001"),
+    (["horizon", "--masses", "1e300"], "--masses: got '1e300'; expected a total mass from 0.002"),
     (["snr", "--mass1", "30", "--mass2", "30", "--redshift", "0"], "--redshift: got '0'; expected a redshift above 0"),
     (["snr", "--mass1", "30", "--mass2", "30", "--distance", "1e-300 m"], "expected a distance from 1 pc"),
     (["snr", "--frequency", "3 mHz", "--h0", "1e-22", "--schedule", "fixed", "--tune", "1e5"], "outside the band"),

@@ -32,6 +32,13 @@ CURVE_HEAD = "# convention: optimal orientation\n"
     ("c.csv", CURVE_HEAD + "frequency,psd\n1,0\n10,1e-48\n", "positive and finite"),
     ("c.csv", "# convention: upside down\nfrequency,asd\n1,1e-23\n10,1e-24\n", "declare the convention"),
     ("c.ecsv", "this is not an ECSV table\n", "cannot read the curve"),
+    ("c.csv", CURVE_HEAD + "frequency,asd\n1,abc\n10,1e-24\n", "asd: expected numbers"),
+    ("c.ecsv", "# %ECSV 1.0\n# ---\n# datatype:\n# - {name: frequency, unit: m, datatype: float64}\n"
+     "# - {name: asd, datatype: float64}\n# schema: astropy-2.0\nfrequency asd\n1 1e-23\n10 1e-24\n",
+     "frequency unit: got 'm'; expected a unit convertible to Hz"),
+    ("c.ecsv", "# %ECSV 1.0\n# ---\n# datatype:\n# - {name: frequency, unit: Hz, datatype: float64}\n"
+     "# - {name: asd, unit: Hz, datatype: float64}\n# schema: astropy-2.0\nfrequency asd\n1 1e-23\n10 1e-24\n",
+     "asd unit: got 'Hz'"),
 ])
 def test_bad_curve_files(tmp_path, name, text, fragment):
     p = tmp_path / name
@@ -39,6 +46,15 @@ def test_bad_curve_files(tmp_path, name, text, fragment):
     with pytest.raises(InputError, match=fragment) as err:
         user_curve(p)
     assert str(p) in str(err.value)
+
+
+def test_a_byte_order_mark_is_not_part_of_the_first_line(tmp_path):
+    # spreadsheet programs write UTF-8 CSV with a leading U+FEFF (Unicode Standard, sec. 23.8; common practice)
+    p = tmp_path / "c.csv"
+    p.write_bytes(b"\xef\xbb\xbf# convention: sky-averaged\nfrequency,asd\n1,1e-20\n10,1e-21\n")
+    r = user_curve(p)
+    assert r.band == pytest.approx((1.0, 10.0), rel=1e-12, abs=0)
+    assert r.sky_averaged(1.0) == pytest.approx(1e-40, rel=1e-12, abs=0)
 
 
 def test_missing_curve_file(tmp_path):
@@ -73,6 +89,7 @@ def test_curve_in_mhz_and_psd_interpolates_a_power_law_exactly(tmp_path):
     ("[[sources]]\nmass1 = 10\n", "unknown key"),
     ("title = 'no sources'\n", "unknown key"),
     ("source = 3\n", "[[source]]"),
+    ("[[source]]\nmass1 = 1e300\nmass2 = 10\nredshift = 1\n", "mass1: got 1e.300; expected a mass from 0.001 to 1e.12"),
 ])
 def test_bad_source_files(tmp_path, text, fragment):
     p = tmp_path / "s.toml"

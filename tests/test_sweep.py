@@ -240,6 +240,7 @@ def test_scan_command(tmp_path, capsys):
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "clock.atom_number=0.1",
       "--samples", "1000000000"], "--samples"),
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "horizon:-5"], "--metric"),
+    (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "horizon:inf"], "expected a total mass"),
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "clock.atom_number"],
      "FIELD=REL_SIGMA"),
     (["sweep", "--vary", "clock.atom_number=1e3:1e4:3", "--metric", "asd@1 Hz", "--perturb", "clock.atom_number=2"],

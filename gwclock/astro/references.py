@@ -15,11 +15,12 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+import astropy.units as u
 from astropy.table import Table
 
 from ..constants import YEAR
 from ..errors import InputError
-from ..files import register_input
+from ..files import read_text
 
 __all__ = ["Reference", "REFERENCES", "get_reference", "lisa_psd", "lisa_confusion", "CONFUSION_PARAMETERS",
            "user_curve"]
@@ -230,6 +231,22 @@ def get_reference(key: str) -> Reference:
                        "(or a user curve file)") from None
 
 
+def _column(table, name, unit, path):
+    """A column's values in ``unit`` (a column without a unit is taken to be in it already)."""
+    col = table[name]
+    try:
+        values = np.asarray(col, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError("expected numbers", source=str(path), field=name) from None
+    if col.unit is None or str(col.unit) in ("", unit):
+        return values
+    try:
+        return (values * col.unit).to_value(unit)
+    except u.UnitConversionError:
+        raise InputError(f"expected a unit convertible to {unit}", source=str(path), field=f"{name} unit",
+                         value=str(col.unit)) from None
+
+
 def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
     """A user curve from CSV or ECSV: a ``frequency`` column (Hz) and ``asd`` (Hz^-1/2) or
     ``psd`` (1/Hz); the convention comes from the argument or the file's ``convention`` meta
@@ -239,18 +256,14 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
 
 
     p = Path(path)
-    register_input(p)
+    if p.suffix.lower() not in (".csv", ".ecsv"):
+        raise InputError("expected a .csv or .ecsv curve file", source=str(p))
+    lines = read_text(p, "curve file", p.suffix.lower()[1:].upper()).splitlines()
     try:
         if p.suffix.lower() == ".ecsv":
-            t = Table.read(p, format="ascii.ecsv")
-        elif p.suffix.lower() == ".csv":
-            t = Table.read(p, format="ascii.csv", comment="#")
+            t = Table.read(lines, format="ascii.ecsv")
         else:
-            raise InputError("expected a .csv or .ecsv curve file", source=str(p))
-    except FileNotFoundError:
-        raise InputError("curve file not found", source=str(p)) from None
-    except InputError:
-        raise
+            t = Table.read(lines, format="ascii.csv", comment="#")
     except Exception as exc:  # astropy raises many kinds for malformed tables
         raise InputError(f"cannot read the curve ({' '.join(str(exc).split())[:160]})", source=str(p)) from None
     for line in t.meta.pop("comments", []) or []:  # CSV: "# key: value" comment lines
@@ -260,15 +273,13 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
     if "frequency" not in t.colnames:
         raise InputError("missing column 'frequency'", source=str(p), field="frequency")
     if "asd" in t.colnames:
-        asd = np.asarray(t["asd"], dtype=float)
+        asd = _column(t, "asd", "Hz(-1/2)", p)
         y = np.where(asd > 0, asd, np.nan) ** 2  # a negative ASD is an error, not its square
     elif "psd" in t.colnames:
-        y = np.asarray(t["psd"], dtype=float)
+        y = _column(t, "psd", "1/Hz", p)
     else:
         raise InputError("expected a column 'asd' or 'psd'", source=str(p), field="asd")
-    f = np.asarray(t["frequency"], dtype=float)
-    if t["frequency"].unit is not None and str(t["frequency"].unit) not in ("Hz", ""):
-        f = (np.asarray(t["frequency"]) * t["frequency"].unit).to_value("Hz")
+    f = _column(t, "frequency", "Hz", p)
     if f.size < 2 or np.any(~np.isfinite(f)) or np.any(f <= 0) or np.any(np.diff(f) <= 0):
         raise InputError("frequencies must be positive, finite and strictly increasing", source=str(p), field="frequency")
     if np.any(~np.isfinite(y)) or np.any(y <= 0):

@@ -31,7 +31,7 @@ from ..files import read_toml, register_input
 from ..quantities import parse_quantity
 
 __all__ = [
-    "chirp_mass", "Inspiral", "Monochromatic", "redshift_at_distance", "distance_at_redshift",
+    "chirp_mass", "check_source_mass", "MASS_RANGE", "Inspiral", "Monochromatic", "redshift_at_distance", "distance_at_redshift",
     "MARKS", "load_sources", "Z_LIMIT", "check_source_distance",
 ]
 
@@ -49,6 +49,18 @@ def check_source_distance(d):
     if not PC <= d <= distance_at_redshift(Z_LIMIT):
         raise ValueError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}")
     return d
+
+
+#: Source-frame component masses a source may have, in solar masses: from a planet's to ten times the
+#: largest black holes known (common practice, no source); outside it the formulas over- or underflow.
+MASS_RANGE = (1e-3, 1e12)
+
+
+def check_source_mass(m):
+    """A component mass in solar masses inside MASS_RANGE; otherwise ValueError with the reason."""
+    if not MASS_RANGE[0] <= m <= MASS_RANGE[1]:
+        raise ValueError(f"expected a mass from {MASS_RANGE[0]:g} to {MASS_RANGE[1]:g} solar masses")
+    return m
 
 
 def chirp_mass(m1, m2):
@@ -106,6 +118,7 @@ class Inspiral:
         """
         if (distance is None) == (redshift is None):
             raise ValueError("give exactly one of distance and redshift")
+        check_source_mass(m1), check_source_mass(m2)
         if redshift is None:
             redshift = redshift_at_distance(distance)
         else:
@@ -249,6 +262,11 @@ def load_sources(path):
                 raise InputError("expected a plain number", source=str(p), field=f"{where}.{key}", value=row[key]) from None
             if not np.isfinite(x) or x <= lo:
                 raise InputError(f"expected a number > {lo:g}", source=str(p), field=f"{where}.{key}", value=row[key])
+            if key.startswith("mass"):
+                try:
+                    check_source_mass(x)
+                except ValueError as exc:
+                    raise InputError(str(exc), source=str(p), field=f"{where}.{key}", value=row[key]) from None
             return x
 
         def qty(key, unit, row=row, where=where):

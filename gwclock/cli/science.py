@@ -9,7 +9,7 @@ import numpy as np
 from astropy.table import Table
 
 from ..astro.references import CONFUSION_PARAMETERS, DEFAULT_COMPARISON, REFERENCES, TABULATED_ONLY, user_curve
-from ..astro.sources import MARKS, Z_LIMIT, Inspiral, Monochromatic, check_source_distance, load_sources
+from ..astro.sources import MARKS, MASS_RANGE, Z_LIMIT, Inspiral, Monochromatic, check_source_distance, check_source_mass, load_sources
 from ..config.mission import load_mission
 from ..constants import MPC, MSUN, YEAR
 from ..engine import envelope
@@ -56,6 +56,24 @@ def _confusion(args):
     return years
 
 
+
+def _mass(text, option):
+    """A component mass in solar masses from the command line, inside the range sources may have."""
+    m = quantity(text, "solMass", option)
+    try:
+        return check_source_mass(m)
+    except ValueError as exc:
+        raise InputError(str(exc), source="command line", field=option, value=text) from None
+
+
+def _total_mass(text):
+    """An equal-mass binary's total mass in solar masses (``--masses``)."""
+    m = quantity(text, "solMass", "--masses")
+    if not 2 * MASS_RANGE[0] <= m <= 2 * MASS_RANGE[1]:
+        raise InputError(f"expected a total mass from {2 * MASS_RANGE[0]:g} to {2 * MASS_RANGE[1]:g} solar masses",
+                         source="command line", field="--masses", value=text)
+    return m
+
 def _source_from_args(args):
     if getattr(args, "source", None):
         return load_sources(args.source)
@@ -66,7 +84,7 @@ def _source_from_args(args):
     if args.mass1 is None or args.mass2 is None:
         raise InputError("give --source FILE, or --mass1 and --mass2 with --distance or --redshift, "
                          "or --frequency with --h0", source="command line")
-    m1, m2 = quantity(args.mass1, "solMass", "--mass1"), quantity(args.mass2, "solMass", "--mass2")
+    m1, m2 = (_mass(args.mass1, "--mass1"), _mass(args.mass2, "--mass2"))
     if (args.distance is None) == (args.redshift is None):
         raise InputError("give exactly one of --distance and --redshift", source="command line")
     if args.distance is not None:
@@ -189,7 +207,7 @@ def cmd_snr(args):
 
 def cmd_horizon(args):
     mission, digest, curve = _clock(args)
-    masses = [quantity(m, "solMass", "--masses") for m in (args.masses or DEFAULT_MASSES)]
+    masses = [_total_mass(m) for m in (args.masses or DEFAULT_MASSES)]
     thr = number(args.snr, "--snr", lo=1e-6)
     refs = _references(args.against if args.against is not None else DEFAULT_COMPARISON, _confusion(args))
     T = mission.design().duration

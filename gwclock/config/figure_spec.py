@@ -76,8 +76,8 @@ class ReferenceItem(_Item):
 
 
 class TrackItem(_Item):
-    mass1: float = Field(gt=0)
-    mass2: float = Field(gt=0)
+    mass1: float = Field(ge=1e-3, le=1e12, description="source-frame mass, solar masses")
+    mass2: float = Field(ge=1e-3, le=1e12, description="source-frame mass, solar masses")
     distance: Metres | None = None
     redshift: float | None = Field(None, ge=0)
     label: str | None = None

@@ -16,7 +16,7 @@ import astropy.units as u
 import numpy as np
 from pydantic import ValidationError
 
-from ..astro.sources import load_sources
+from ..astro.sources import MASS_RANGE, load_sources
 from ..config.mission import validation_error
 from ..engine.batch import batch_budget
 from ..engine.budget import SPAN, band_below
@@ -125,9 +125,9 @@ def parse_metric(text, source="study specification", option="metric") -> Metric:
                 raise ValueError("level must be positive")
             return Metric(t, "band", level, (f"band_low@{level:g}", f"band_high@{level:g}"), ("Hz", "Hz"))
         if t.startswith("horizon:"):
-            mass = float(t[8:])
-            if not mass > 0:
-                raise ValueError("mass must be positive")
+            mass = float(t[8:])  # total source-frame mass of an equal-mass binary
+            if not 2 * MASS_RANGE[0] <= mass <= 2 * MASS_RANGE[1]:
+                raise ValueError(f"expected a total mass from {2 * MASS_RANGE[0]:g} to {2 * MASS_RANGE[1]:g} solar masses")
             return Metric(t, "horizon", mass, (f"horizon_z@{mass:g}Msun",), ("",))
         if t.startswith("snr:"):
             rest = t[4:]
