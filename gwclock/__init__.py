@@ -41,7 +41,10 @@ _EXPORTS = {
     "clock_snr": "gwclock.studies.snr",
     "reference_snr": "gwclock.studies.snr",
     "horizon": "gwclock.studies.horizon",
+    "GwclockError": "gwclock.errors",
     "InputError": "gwclock.errors",
+    "OutOfReachError": "gwclock.errors",
+    "UnknownNameError": "gwclock.errors",
 }
 
 __all__ = ["__version__", *_EXPORTS]

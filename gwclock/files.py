@@ -8,6 +8,7 @@ or an interruption leaves no partial file and keeps the previous one.
 
 from __future__ import annotations
 
+import glob
 import os
 import tempfile
 import threading
@@ -99,6 +100,24 @@ def check_output_path(path, kinds) -> Path:
     return p
 
 
+def _remove_leftovers(folder: Path, head: str, tail: str) -> None:
+    """Delete the temporary files a killed run (SIGKILL, power loss) left for the same output: ours,
+    named ``{head}{pid}.{random}{tail}``, whose process no longer exists. A running writer's file,
+    another user's, or one without a process id is left alone."""
+    for p in folder.glob(glob.escape(head) + "*" + glob.escape(tail)):
+        pid = p.name[len(head):].split(".", 1)[0]
+        if not pid.isdigit() or int(pid) == os.getpid():
+            continue
+        try:
+            if p.stat().st_uid != os.getuid():
+                continue
+            os.kill(int(pid), 0)
+        except ProcessLookupError:  # its run is gone: the file is a leftover
+            p.unlink(missing_ok=True)
+        except (OSError, OverflowError):  # alive under another user, or unreadable: not ours to judge
+            continue
+
+
 class atomic_path:
     """Context manager yielding a temporary path beside ``target``; renamed onto it on success.
 
@@ -111,9 +130,12 @@ class atomic_path:
         self.target = target.resolve() if target.is_symlink() else target
 
     def __enter__(self) -> Path:
-        # a short temporary name: the target's own may already be near the 255-byte limit
-        fd, name = tempfile.mkstemp(prefix=f".{self.target.stem[:40]}.", suffix=f".part{self.target.suffix}",
-                                    dir=self.target.parent if str(self.target.parent) else ".")
+        # a short temporary name (the target's own may already be near the 255-byte limit) that
+        # carries this process's id, so that a later run can tell a killed run's leftover
+        folder = self.target.parent if str(self.target.parent) else Path(".")
+        head, tail = f".{self.target.stem[:40]}.", f".part{self.target.suffix}"
+        _remove_leftovers(folder, head, tail)
+        fd, name = tempfile.mkstemp(prefix=f"{head}{os.getpid()}.", suffix=tail, dir=folder)
         os.close(fd)
         # mkstemp makes the file private (0600); an output gets the permissions of any new file
         umask = os.umask(0)

@@ -384,3 +384,27 @@ def test_a_reference_curve_is_exported_inside_its_valid_band_only(tmp_path, caps
         assert f[0] == pytest.approx(lo, rel=1e-12, abs=0) and f[-1] == pytest.approx(hi, rel=1e-12, abs=0)
     code, _, err = run(["reference", "aligo", "--fmin", "1e-5 Hz"], capsys)
     assert code == 2 and "holds from 10 Hz" in err
+
+
+@pytest.mark.parametrize("argv", [
+    ["snr", "--frequency", "10 MHz", "--h0", "1e-21"],
+    ["sweep", "--vary", "clock.atom_number=1e3:1e4:2", "--metric", "asd@1 MHz"],
+    ["curve", "--fmin", "0.2 MHz", "--fmax", "1 MHz", "--points", "2"],
+    ["sweep", "--vary", "clock.atom_number=1e3:1e4:2", "--metric", "asd@1e5"],
+])
+def test_a_frequency_far_beyond_the_pulses_is_warned_about(tmp_path, monkeypatch, capsys, argv):
+    # the pi pulses sample the light phase up to 1/(2 t_pi) (common practice, no source): 1e4-1e5 times
+    # above it is almost surely "MHz" typed for "mHz"; the run goes on and says so on one line
+    monkeypatch.chdir(tmp_path)
+    code, _, err = run(argv, capsys)
+    assert code == 0
+    assert err.startswith("gwclock: warning: ") and err.count("\n") == 1 and "times the highest frequency" in err
+    assert ("did you mean mHz?" in err) == ("MHz" in " ".join(argv))
+
+
+def test_valid_runs_print_no_warning(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    for argv in (["curve", "--points", "20"], ["snr", "--frequency", "10 mHz", "--h0", "1e-21"],
+                 ["check", str(MISSIONS[0])]):
+        code, _, err = run(argv, capsys)
+        assert code == 0 and err == ""

@@ -275,3 +275,42 @@ def test_an_output_symlink_is_written_through(tmp_path):
     with atomic_path(link) as tmp:
         tmp.write_text("new")
     assert link.is_symlink() and target.read_text() == "new"
+
+
+class TestErrorHierarchy:
+    """Library refusals are gwclock's own documented types (gwclock/errors.py), each still the
+    built-in kind a script would catch (ValueError for bad values, KeyError for failed lookups)."""
+
+    def test_bad_frequencies_are_input_errors(self):
+        from gwclock.engine import envelope
+        from gwclock.errors import GwclockError
+        d = load_mission(None)[0].design()
+        with pytest.raises(InputError) as err:
+            envelope(d, np.array([1.0, -1.0]))
+        assert isinstance(err.value, (GwclockError, ValueError))
+
+    def test_an_unreachable_tuning_or_band_is_out_of_reach(self):
+        from gwclock.engine.curves import check_tuning
+        from gwclock.errors import OutOfReachError
+        d = load_mission(None)[0].design()
+        with pytest.raises(OutOfReachError, match="1e\\+06 Hz is outside the band the sequence can reach"):
+            check_tuning(d, 1e6)
+        with pytest.raises(OutOfReachError, match="does not radiate"):  # a 60 Msun binary ends near 70 Hz
+            Inspiral.from_masses(30, 30, redshift=0.1).track(1e3, 1e4)
+
+    @pytest.mark.parametrize("lookup", ["reference", "species", "schedule"])
+    def test_unknown_names(self, lookup):
+        from gwclock.astro.references import get_reference
+        from gwclock.errors import UnknownNameError
+        from gwclock.physics.species import get_species
+        from gwclock.studies.snr import TunedCurve, clock_snr
+        with pytest.raises(UnknownNameError) as err:
+            if lookup == "reference":
+                get_reference("virgo")
+            elif lookup == "species":
+                get_species("Cs")
+            else:
+                d = load_mission(None)[0].design()
+                clock_snr(TunedCurve(d, 1e-3, 1.0, 50), Monochromatic("m", 0.01, 1e-21), "sometimes")
+        assert isinstance(err.value, KeyError) and isinstance(err.value, InputError)
+        assert str(err.value).startswith("unknown ") and not str(err.value).startswith("'")

@@ -11,6 +11,7 @@ import subprocess
 import sys
 import time
 import tomllib
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -181,6 +182,58 @@ def test_killed_run_leaves_the_old_output_intact(tmp_path, sig):
     leftovers = [p.name for p in tmp_path.iterdir() if p.name != "table.ecsv"]
     if sig == signal.SIGTERM:
         assert leftovers == []  # cleaned up on a polite stop
+    else:  # a SIGKILL cannot be answered: the next run writing the same output removes the leftover
+        assert len(leftovers) == 1
+        done = subprocess.run([sys.executable, "-m", "gwclock", "sweep", "--vary", "clock.atom_number=1e3:1e4:2",
+                               "--metric", "asd@1 Hz", "--table", str(out), "--quiet"],
+                              capture_output=True, cwd=tmp_path, env=_plain_env(), timeout=120)
+        assert done.returncode == 0
+        assert [p.name for p in tmp_path.iterdir()] == ["table.ecsv"]
+
+
+def _alive_in_group(pgid):
+    """Processes of a process group that still run (zombies, already dead, are not counted)."""
+    alive = []
+    for stat in Path("/proc").glob("[0-9]*/stat"):
+        try:
+            fields = stat.read_text().rsplit(")", 1)[1].split()
+        except OSError:
+            continue
+        if int(fields[2]) == pgid and fields[0] != "Z":
+            alive.append(stat.parent.name)
+    return alive
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+@pytest.mark.parametrize("how", ["ctrl-c", "sigterm", "sigkill"])
+def test_an_interrupted_parallel_sweep_stops_at_once_and_leaves_no_workers(tmp_path, how):
+    # Ctrl-C reaches the whole process group, SIGTERM and SIGKILL the parent only (POSIX signal
+    # semantics, common practice, no source); the workers must not outlive it, nor print tracebacks
+    out = tmp_path / "table.ecsv"
+    proc = subprocess.Popen([sys.executable, "-m", "gwclock", "sweep", "--vary", "clock.atom_number=1e3:1e7:200:log",
+                             "--metric", "band@1e-17", "--perturb", "clock.atom_number=0.1", "--samples", "400",
+                             "--workers", "2", "--table", str(out), "--quiet"],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=tmp_path, env=_plain_env(),
+                            start_new_session=True)
+    deadline = time.monotonic() + 120
+    while time.monotonic() < deadline and len(_alive_in_group(proc.pid)) < 3:  # the parent and two workers
+        time.sleep(0.05)
+    time.sleep(1.0)  # the workers are inside their first chunks
+    assert proc.poll() is None
+    t0 = time.monotonic()
+    if how == "ctrl-c":
+        os.killpg(proc.pid, signal.SIGINT)
+    else:
+        proc.send_signal(signal.SIGTERM if how == "sigterm" else signal.SIGKILL)
+    _, err = proc.communicate(timeout=60)
+    assert time.monotonic() - t0 < 10
+    if how != "sigkill":
+        assert proc.returncode == 130 and err.decode().strip() == "gwclock: interrupted"
+    deadline = time.monotonic() + 10
+    while _alive_in_group(proc.pid) and time.monotonic() < deadline:
+        time.sleep(0.05)
+    assert _alive_in_group(proc.pid) == []
+    assert not out.exists()
 
 
 @settings(max_examples=40, deadline=None)

@@ -73,9 +73,12 @@ def test_sweep_equals_direct_evaluation(tmp_path, capsys):
 def test_a_sweep_over_the_tuning_gives_each_tuning_its_window(tmp_path, capsys):
     # a fixed tuning's response is its window; the window meets the envelope at its own tuning
     # (the lock-in picture of a dynamical-decoupling clock: Kotler et al. 2011, Nature 473, 61)
-    p = tmp_path / "s.ecsv"
+    # and a fixed-schedule SNR of a monochromatic source uses the swept tuning: h0 sqrt(T / S_n(f; f0))
+    # (matched filter, Robson, Cornish & Liu 2019, Class. Quantum Grav. 36, 105011)
+    p, src = tmp_path / "s.ecsv", tmp_path / "gb.csv"
+    src.write_text("name,frequency,h0\ngb,30 mHz,1e-21\n")
     code, _, _ = run(["sweep", "--vary", "sequence.tune=3 mHz:0.3 Hz:3:log", "--metric", "asd@30 mHz",
-                      "--table", p], capsys)
+                      "--metric", f"snr:{src}:fixed", "--table", p], capsys)
     assert code == 0
     t = QTable.read(p)
     assert t["sequence.tune"].unit == "Hz" and list(t["status"]) == ["ok"] * 3
@@ -83,8 +86,9 @@ def test_a_sweep_over_the_tuning_gives_each_tuning_its_window(tmp_path, capsys):
     d = m.design()
     for row in t:
         f0 = float(row["sequence.tune"].value)
-        direct = np.sqrt(window(d, np.array([0.01, 0.03]), tune=f0).total[1])
-        assert row["asd@0.03Hz"].value == pytest.approx(direct, rel=1e-12, abs=0)
+        s_n = window(d, np.array([0.01, 0.03]), tune=f0).total[1]
+        assert row["asd@0.03Hz"].value == pytest.approx(np.sqrt(s_n), rel=1e-12, abs=0)
+        assert float(row["snr[fixed]:gb"]) == pytest.approx(1e-21 * np.sqrt(d.duration / s_n), rel=1e-6, abs=0)
     # tuned to the measured frequency: the envelope there; detuned by a decade either way: worse
     at = np.sqrt(envelope(d, np.array([0.01, 0.03])).total[1])
     assert t["asd@0.03Hz"][1].value == pytest.approx(at, rel=1e-9, abs=0)

@@ -14,12 +14,12 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
-import numpy as np
 import astropy.units as u
+import numpy as np
 from astropy.table import Table
 
 from ..constants import YEAR
-from ..errors import InputError
+from ..errors import InputError, OutOfReachError, UnknownNameError
 from ..files import read_text
 
 __all__ = ["Reference", "REFERENCES", "get_reference", "lisa_psd", "lisa_confusion", "CONFUSION_PARAMETERS",
@@ -43,7 +43,7 @@ def lisa_confusion(f, years):
     try:
         al, be, ka, ga, fk = CONFUSION_PARAMETERS[float(years)]
     except KeyError:
-        raise ValueError(f"the galactic confusion is tabulated for {', '.join(map(str, CONFUSION_PARAMETERS))} yr") from None
+        raise InputError(f"the galactic confusion is tabulated for {', '.join(map(str, CONFUSION_PARAMETERS))} yr") from None
     f = np.asarray(f, dtype=float)
     with np.errstate(over="ignore", under="ignore"):
         expo = np.minimum(-f**al + be * f * np.sin(ka * f), 700.0)
@@ -227,7 +227,7 @@ def get_reference(key: str) -> Reference:
     try:
         return REFERENCES[key.lower()]
     except KeyError:
-        raise KeyError(f"unknown reference {key!r}; expected one of {', '.join(REFERENCES)} "
+        raise UnknownNameError(f"unknown reference {key!r}; expected one of {', '.join(REFERENCES)} "
                        "(or a user curve file)") from None
 
 
@@ -304,7 +304,7 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
     def psd(x):
         x = np.asarray(x, dtype=float)
         if np.any(x < f[0] * (1 - 1e-12)) or np.any(x > f[-1] * (1 + 1e-12)):
-            raise ValueError(f"{p.name} covers {f[0]:g} Hz to {f[-1]:g} Hz only")
+            raise OutOfReachError(f"{p.name} covers {f[0]:g} Hz to {f[-1]:g} Hz only")
         return np.exp(np.interp(np.log(x), lf, ly))
 
     return Reference(p.stem, label or str(t.meta.get("label", p.stem)), psd, conv, factor, (float(f[0]), float(f[-1])),

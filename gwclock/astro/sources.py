@@ -26,7 +26,7 @@ import numpy as np
 
 from ..constants import DAY, MSUN, PC, YEAR, G
 from ..constants import c as C
-from ..errors import InputError
+from ..errors import InputError, OutOfReachError
 from ..files import read_toml, register_input
 from ..quantities import parse_quantity
 
@@ -47,7 +47,7 @@ def check_source_distance(d):
     """A luminosity distance (m) a source may be given at: from 1 pc to the distance of z =
     Z_LIMIT; otherwise ValueError with the one-line reason."""
     if not PC <= d <= distance_at_redshift(Z_LIMIT):
-        raise ValueError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}")
+        raise InputError(f"expected a distance from 1 pc to the distance of z = {Z_LIMIT:g}")
     return d
 
 
@@ -59,7 +59,7 @@ MASS_RANGE = (1e-3, 1e12)
 def check_source_mass(m):
     """A component mass in solar masses inside MASS_RANGE; otherwise ValueError with the reason."""
     if not MASS_RANGE[0] <= m <= MASS_RANGE[1]:
-        raise ValueError(f"expected a mass from {MASS_RANGE[0]:g} to {MASS_RANGE[1]:g} solar masses")
+        raise InputError(f"expected a mass from {MASS_RANGE[0]:g} to {MASS_RANGE[1]:g} solar masses")
     return m
 
 
@@ -117,7 +117,7 @@ class Inspiral:
         Detector-frame masses are (1 + z) times the source-frame ones; amplitudes use D_L.
         """
         if (distance is None) == (redshift is None):
-            raise ValueError("give exactly one of distance and redshift")
+            raise InputError("give exactly one of distance and redshift")
         check_source_mass(m1), check_source_mass(m2)
         if redshift is None:
             redshift = redshift_at_distance(distance)
@@ -172,8 +172,8 @@ class Inspiral:
         """(time_to_merger, frequency, h_c) from fmin to min(fmax, f_ISCO)."""
         top = min(fmax, self.isco_frequency)
         if fmin >= top:
-            raise ValueError(f"the source does not radiate between {fmin:g} Hz and {fmax:g} Hz "
-                             f"(last stable orbit at {self.isco_frequency:.4g} Hz)")
+            raise OutOfReachError(f"the source does not radiate between {fmin:g} Hz and {fmax:g} Hz "
+                                  f"(last stable orbit at {self.isco_frequency:.4g} Hz)")
         f = np.geomspace(fmin, top, points)
         return self.time_to_merger(f), f, self.characteristic_strain(f)
 

@@ -8,6 +8,7 @@ one line and exit code 2.
 from __future__ import annotations
 
 import argparse
+import sys
 
 import numpy as np
 
@@ -17,11 +18,13 @@ from ..errors import InputError
 from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
 from ..outputs.plotting import save_figure
 from ..outputs.tables import write_table
+from ..physics.noises import pulse_bandwidth
 from ..quantities import checked_frequency, parse_quantity
 from ..version import __version__
 
-__all__ = ["Parser", "mission_arg", "grid_args", "output_args", "frequency", "grid", "tuned", "quantity", "number", "check_outputs",
-           "save_table", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]
+__all__ = ["Parser", "mission_arg", "grid_args", "output_args", "frequency", "grid", "tuned", "quantity",
+           "number", "check_outputs", "warn", "check_reach", "save_table", "save_plot", "DEFAULT_FMIN",
+           "DEFAULT_FMAX", "DEFAULT_POINTS"]
 
 DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = f"{SPAN[0]:g} Hz", f"{SPAN[1]:g} Hz", 400
 
@@ -60,6 +63,26 @@ def frequency(text, option):
         return checked_frequency(text)
     except ValueError as exc:
         raise InputError(str(exc), source="command line", field=option, value=text) from None
+
+
+def warn(message):
+    """A one-line warning on stderr: the run goes on (exit code unchanged)."""
+    sys.stderr.write("gwclock: warning: " + " ".join(str(message).split()) + "\n")
+
+
+#: How far above the pulse bandwidth a requested frequency may lie before the user is warned.
+REACH_MARGIN = 100.0
+
+
+def check_reach(design, f, what, text=None):
+    """Warn when a frequency lies orders of magnitude above what the clock's pi pulses can sample
+    (1/(2 t_pi)): there the curve is a Ramsey fallback far outside the mission's band, and a unit
+    typed as "MHz" for "mHz" is the likely cause."""
+    top = pulse_bandwidth(design)
+    if f > REACH_MARGIN * top:
+        hint = "; did you mean mHz?" if text is not None and "MHz" in str(text) else ""
+        warn(f"{what} = {f:g} Hz is {f / top:.2g} times the highest frequency the pi pulses reach "
+             f"(1/(2 t_pi) = {top:g} Hz){hint}")
 
 
 def grid(args):

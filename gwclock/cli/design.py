@@ -8,7 +8,7 @@ from ..outputs.plotting import plot_budget
 from ..outputs.summary import describe_mission, summarise_budget
 from ..outputs.tables import budget_table
 from ..physics.species import SPECIES
-from .common import check_outputs, grid, grid_args, mission_arg, save_plot, save_table, tuned
+from .common import check_outputs, check_reach, grid, grid_args, mission_arg, save_plot, save_table, tuned
 
 __all__ = ["add_commands"]
 
@@ -38,6 +38,7 @@ def cmd_curve(args):
     f = grid(args)
     check_outputs(args)
     design = mission.design()
+    check_reach(design, f[0], "--fmin", args.fmin)
     budget = envelope(design, f) if design.tune is None else window(design, f)
     print(summarise_budget(budget, mission.name))
     _write(budget, mission, digest, args)

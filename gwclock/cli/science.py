@@ -20,7 +20,7 @@ from ..quantities import checked_frequency
 from ..studies import background as bg
 from ..studies.horizon import MEASURE_LABELS, MEASURES, Z_MAX, horizon
 from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
-from .common import check_outputs, frequency, grid, grid_args, mission_arg, number, output_args, quantity, save_plot, save_table, tuned
+from .common import check_outputs, check_reach, frequency, grid, grid_args, mission_arg, number, output_args, quantity, save_plot, save_table, tuned
 
 __all__ = ["add_commands"]
 
@@ -186,6 +186,9 @@ def cmd_snr(args):
     cadence = quantity(args.cadence, "s", "--cadence")
     overhead = quantity(args.overhead, "s", "--overhead", positive=False)
     check_outputs(args)
+    for src in sources:
+        if isinstance(src, Monochromatic):
+            check_reach(mission.design(), src.frequency, f"the frequency of {src.name}", args.frequency)
     rows = []
     for src in sources:
         try:

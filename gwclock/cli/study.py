@@ -16,7 +16,7 @@ from ..outputs.tables import Column, provenance
 from ..quantities import parse_quantity
 from ..studies.executor import run_sweep
 from ..studies.sweep import failure_reason, field_unit, field_value, parse_metric, parse_perturb, parse_vary, require
-from .common import check_outputs, frequency, grid, grid_args, mission_arg, output_args, save_plot, save_table
+from .common import check_outputs, check_reach, frequency, grid, grid_args, mission_arg, output_args, save_plot, save_table
 
 __all__ = ["add_commands"]
 
@@ -55,6 +55,9 @@ def cmd_sweep(args):
     if len({a.field for a in axes}) != len(axes):
         raise InputError("each field can be varied once", source="command line", field="--vary")
     metrics = [parse_metric(m, CLI, "--metric") for m in args.metric]
+    for m in metrics:
+        if m.kind in ("asd", "power"):
+            check_reach(mission.design(), m.arg, m.text.split("@")[0] + " frequency", m.text)
     perturb = [parse_perturb(p, mission, CLI, "--perturb") for p in (args.perturb or [])]
     _workers(args)
     check_outputs(args)
@@ -120,6 +123,8 @@ def cmd_require(args):
         raise InputError("expected 'METRIC<=VALUE' or 'METRIC>=VALUE'", source="command line", field="--target",
                          value=args.target)
     metric = parse_metric(m.group(1), CLI, "--target")
+    if metric.kind in ("asd", "power"):
+        check_reach(mission.design(), metric.arg, metric.text.split("@")[0] + " frequency", metric.text)
     if len(metric.columns) != 1:
         raise InputError("require takes a metric with one value (one source for snr)", source="command line",
                          field="--target")

@@ -19,10 +19,11 @@ from typing import Annotated, Any, Literal, get_args
 import astropy.units as u
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, model_validator
 
+from ..engine.curves import check_tuning
 from ..errors import InputError
 from ..files import read_toml
 from ..physics.design import Design
-from ..physics.sequences import KINDS, SEQUENCES
+from ..physics.sequences import KINDS
 from ..physics.species import SPECIES
 from ..quantities import parse_quantity
 
@@ -192,14 +193,7 @@ class Mission(_Section):
         if tmax <= 2 * tpi:
             raise ValueError("sequence.max_interrogation must be longer than two pi pulses (clock.pi_pulse_duration)")
         if self.sequence.tune != "auto":
-            f0 = self.sequence.tune.to_value(u.Hz)
-            kind = SEQUENCES[self.sequence.kind]
-            if kind.dd and hasattr(kind, "min_pulses"):  # CPMG-timed kinds: T = n / (2 f0)
-                lo, hi = kind.min_pulses() / (2 * tmax), 1 / (2 * tpi)
-                if not (lo <= f0 < hi):
-                    raise ValueError(
-                        f"sequence.tune {f0:g} Hz is outside the band the sequence can reach "
-                        f"({lo:.4g} Hz to {hi:.4g} Hz, set by max_interrogation and pi_pulse_duration)")
+            check_tuning(self.design(), self.sequence.tune.to_value(u.Hz))  # an OutOfReachError is a ValueError
         return self
 
     # resolved values -------------------------------------------------------------------------

@@ -8,6 +8,7 @@ from html import escape as html_escape
 
 import numpy as np
 
+from ..errors import InputError
 from ..physics.design import Design
 
 __all__ = ["Budget", "frequency_grid", "check_grid", "hertz", "band_below", "SPAN"]
@@ -123,11 +124,11 @@ def band_below(f, asd, level):
 def frequency_grid(fmin, fmax, points):
     """Logarithmic grid from fmin to fmax inclusive (Hz)."""
     if not (np.isfinite(fmin) and np.isfinite(fmax)) or fmin <= 0:
-        raise ValueError("fmin and fmax must be positive and finite")
+        raise InputError("fmin and fmax must be positive and finite")
     if fmin >= fmax:
-        raise ValueError(f"fmin ({fmin:g} Hz) must be below fmax ({fmax:g} Hz)")
+        raise InputError(f"fmin ({fmin:g} Hz) must be below fmax ({fmax:g} Hz)")
     if int(points) < 2:
-        raise ValueError("points must be at least 2")
+        raise InputError("points must be at least 2")
     return np.geomspace(fmin, fmax, int(points))
 
 
@@ -141,7 +142,7 @@ def hertz(value):
         try:
             return v.to_value("Hz")
         except ValueError:  # astropy's UnitConversionError
-            raise ValueError(f"expected a frequency, got a quantity in {v.unit}") from None
+            raise InputError(f"expected a frequency, got a quantity in {v.unit}") from None
 
     if isinstance(value, (list, tuple)) and any(quantity(v) for v in value):
         return np.array([to_hz(v) if quantity(v) else float(v) for v in value], dtype=float)
@@ -155,9 +156,9 @@ def check_grid(frequency):
     positive, finite and strictly increasing."""
     f = hertz(frequency)
     if f.ndim != 1 or f.size == 0:
-        raise ValueError("frequencies must be a non-empty one-dimensional array")
+        raise InputError("frequencies must be a non-empty one-dimensional array")
     if not np.all(np.isfinite(f)) or np.any(f <= 0):
-        raise ValueError("frequencies must be positive and finite")
+        raise InputError("frequencies must be positive and finite")
     if np.any(np.diff(f) <= 0):
-        raise ValueError("frequencies must increase strictly (no repeats, sorted)")
+        raise InputError("frequencies must increase strictly (no repeats, sorted)")
     return f

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..errors import InputError, OutOfReachError
 from ..physics import noises
 from ..physics.design import Design
 from ..physics.sequences import SEQUENCES
@@ -17,7 +18,7 @@ from .budget import Budget, check_grid, hertz
 from .formula import signal_response, total_psd
 from .search import RAMSEY, best_sequence
 
-__all__ = ["envelope", "window", "window_psd", "window_parts", "envelope_parts", "CHUNK"]
+__all__ = ["envelope", "window", "tuning_band", "check_tuning", "window_psd", "window_parts", "envelope_parts", "CHUNK"]
 
 #: Frequencies evaluated at once (bounds memory on large grids).
 CHUNK = 32768
@@ -60,7 +61,7 @@ def window_parts(design: Design, tunings, frequency):
     f = np.broadcast_to(f, (fk.size, f.shape[-1]))
     best, ok = best_sequence(design, fk)
     if not np.all(ok):
-        raise ValueError("some tunings cannot be reached by any sequence")
+        raise OutOfReachError("some tunings cannot be reached by any sequence")
     n = np.asarray(best["pulses"], dtype=float)[:, None]
     T = np.asarray(best["interrogation"], dtype=float)[:, None]
     Tc = np.asarray(best["cycle"], dtype=float)[:, None]
@@ -139,6 +140,27 @@ def envelope_parts(design, f):
     return {k: np.concatenate([p[k] for p in pieces]) for k in pieces[0]}
 
 
+def tuning_band(design: Design):
+    """The tunings (Hz) a fixed sequence can have: ``(n_min / (2 T_max), 1 / (2 t_pi))`` for the
+    CPMG-timed kinds, whose pulse spacing sets the tuning (T = n / (2 f0)); ``None`` for kinds
+    without a tuning band of that form."""
+    kind = SEQUENCES[design.kind]
+    if kind.dd and hasattr(kind, "min_pulses"):
+        return kind.min_pulses() / (2 * float(design.max_interrogation)), 1 / (2 * float(design.pi_pulse_duration))
+    return None
+
+
+def check_tuning(design: Design, f0: float) -> float:
+    """``f0`` if a mission file may fix its tuning there (:func:`tuning_band`); otherwise
+    OutOfReachError. (The library's :func:`window` is more lenient: beyond 1/(2 t_pi) it gives the
+    Ramsey sequence the envelope uses there.)"""
+    band = tuning_band(design)
+    if band is not None and not band[0] <= f0 < band[1]:
+        raise OutOfReachError(f"sequence.tune {f0:g} Hz is outside the band the sequence can reach "
+                              f"({band[0]:.4g} Hz to {band[1]:.4g} Hz, set by max_interrogation and pi_pulse_duration)")
+    return f0
+
+
 def window(design: Design, frequency, tune: float | None = None) -> Budget:
     """Response at one fixed tuning: ``S_n(f; f0) = N(f) / (|G(f)|^2 R_y(f))`` for the sequence the
     envelope uses at f0 (see :func:`window_parts`); at f = f0 it equals the envelope.
@@ -159,10 +181,10 @@ def window(design: Design, frequency, tune: float | None = None) -> Budget:
     f = check_grid(frequency)
     f0 = design.tune if tune is None else float(hertz(tune))
     if f0 is None:
-        raise ValueError("a window needs a tuning frequency")
+        raise InputError("a window needs a tuning frequency")
     try:
         parts, best = window_parts(design, [f0], f)
     except ValueError:
-        raise ValueError(f"no sequence can be tuned to {f0:g} Hz within max_interrogation and the pi-pulse duration") from None
+        raise OutOfReachError(f"no sequence can be tuned to {f0:g} Hz within max_interrogation and the pi-pulse duration") from None
     seq = {k: np.asarray(v)[0] for k, v in best.items()}
     return _assemble(design, f, f0, {**seq, **{k: v[0] for k, v in parts.items()}}, "window")

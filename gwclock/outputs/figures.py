@@ -12,8 +12,6 @@ Conventions (sky-averaged strain, one-sided PSD):
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import numpy as np
 
 from ..astro.references import get_reference

@@ -19,6 +19,8 @@ from functools import lru_cache
 import numpy as np
 from scipy import special
 
+from ..errors import InputError
+
 __all__ = [
     "sensitivity_function",
     "filter_function",
@@ -35,10 +37,10 @@ __all__ = [
 def _check_times(T, times, pulse_duration):
     times = np.asarray(times, dtype=float)
     if times.ndim != 1:
-        raise ValueError("pulse times must be a one-dimensional sequence")
+        raise InputError("pulse times must be a one-dimensional sequence")
     if times.size and (np.any(np.diff(times) <= pulse_duration) or times[0] - pulse_duration / 2 < 0
                        or times[-1] + pulse_duration / 2 > T):
-        raise ValueError("pi pulses overlap or do not fit inside the interrogation")
+        raise InputError("pi pulses overlap or do not fit inside the interrogation")
     return times
 
 

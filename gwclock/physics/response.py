@@ -23,6 +23,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..constants import c
+from ..errors import UnknownNameError
 
 __all__ = [
     "phase_lock_transfer",
@@ -128,7 +129,7 @@ def link_response(frequency, baseline, path: str = "one-way"):
     try:
         average = LINK_PATHS[path]
     except KeyError:
-        raise KeyError(f"unknown link path {path!r}; expected one of {', '.join(LINK_PATHS)}") from None
+        raise UnknownNameError(f"unknown link path {path!r}; expected one of {', '.join(LINK_PATHS)}") from None
     a = np.pi * np.asarray(frequency, dtype=float) * np.asarray(baseline, dtype=float) / c
     return 2.0 * average(a)
 
@@ -186,5 +187,5 @@ def directional_response(frequency, baseline, mu, psi, path: str = "one-way"):
             return -2j * np.sin(x / 2) * np.exp(-0.5j * x)
         geom = np.abs(-mu * em1(2 * a * (1 + mu)) + 0.5 * (1 + mu) * em1(4 * a)) ** 2
     else:
-        raise KeyError(f"unknown link path {path!r}; expected one of {', '.join(LINK_PATHS)}")
+        raise UnknownNameError(f"unknown link path {path!r}; expected one of {', '.join(LINK_PATHS)}")
     return geom * np.cos(2 * psi) ** 2, geom * np.sin(2 * psi) ** 2

@@ -7,6 +7,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from ..errors import UnknownNameError
+
 __all__ = ["Species", "SPECIES", "get_species"]
 
 
@@ -84,4 +86,4 @@ def get_species(key: str) -> Species:
     try:
         return SPECIES[key]
     except KeyError:
-        raise KeyError(f"unknown species {key!r}; expected one of {', '.join(SPECIES)}") from None
+        raise UnknownNameError(f"unknown species {key!r}; expected one of {', '.join(SPECIES)}") from None

@@ -25,6 +25,7 @@ import numpy as np
 
 from ..engine import best_sequence
 from ..engine.formula import total_psd
+from ..errors import OutOfReachError
 from ..physics import noises, response
 from ..physics.sequences import SEQUENCES
 
@@ -162,7 +163,7 @@ def clock_scan_power_law(design, tunings, observation, grid, snr=1.0, f_ref=None
     fk = np.sort(np.asarray(tunings, dtype=float))
     best, ok = best_sequence(design, fk)
     if not np.all(ok):
-        raise ValueError("some scan tunings cannot be reached")
+        raise OutOfReachError("some scan tunings cannot be reached")
     sy = total_psd(best)
     T = np.asarray(best["interrogation"], dtype=float)
     n = np.asarray(best["pulses"], dtype=float)

@@ -8,7 +8,10 @@ point's index in the grid).
 
 from __future__ import annotations
 
+import ctypes
 import itertools
+import os
+import signal
 import sys
 import time
 from concurrent.futures import ProcessPoolExecutor
@@ -46,6 +49,34 @@ class Progress:
     def close(self):
         if self.on:
             sys.stderr.write("\n")
+
+
+def _worker_start():
+    """Set up a worker process: the parent alone answers Ctrl-C and SIGTERM (a worker stops when the
+    parent stops it, without a traceback of its own), and on Linux a worker dies with its parent,
+    so that a SIGKILL of the parent leaves no orphans."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    if sys.platform.startswith("linux"):
+        try:
+            ctypes.CDLL(None, use_errno=True).prctl(1, int(signal.SIGKILL))  # PR_SET_PDEATHSIG = 1
+        except (OSError, AttributeError):
+            pass
+        if os.getppid() == 1:  # the parent died before the request took effect
+            os._exit(1)
+
+
+def _stop_pool(pool, timeout=5.0):
+    """Stop a process pool at once: queued chunks cancelled, running workers terminated."""
+    processes = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for proc in processes:
+        proc.terminate()
+    deadline = time.monotonic() + timeout
+    for proc in processes:
+        proc.join(max(deadline - time.monotonic(), 0.0))
+        if proc.is_alive():
+            proc.kill()
 
 
 def chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed):
@@ -104,7 +135,7 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
     """Run a sweep; feed finished chunks, in grid order, to ``sink(table)``. Returns row count."""
     total = grid_size(axes)
     if total > MAX_POINTS:
-        raise ValueError(f"the grid has {total:.3g} points; at most {MAX_POINTS:.0e} are swept in one run")
+        raise InputError(f"the grid has {total:.3g} points; at most {MAX_POINTS:.0e} are swept in one run")
     product = itertools.product(*[range(len(a.texts)) for a in axes])
     # chunks are made as they are needed: the grid is never held whole
     chunks = iter(lambda: list(itertools.islice(product, CHUNK_POINTS)), [])
@@ -140,7 +171,8 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
                     if nxt is not None:
                         window.append(client.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed, pure=False))
         elif workers > 1:
-            with ProcessPoolExecutor(workers) as pool:
+            pool = ProcessPoolExecutor(workers, initializer=_worker_start)
+            try:
                 # a bounded window of chunks in flight, in grid order
                 window = [pool.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed)
                           for ch in itertools.islice(chunks, 2 * workers)]
@@ -149,6 +181,10 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
                     nxt = next(chunks, None)
                     if nxt is not None:
                         window.append(pool.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed))
+            except BaseException:
+                _stop_pool(pool)  # an interruption or a failure: the workers stop now, not after their chunks
+                raise
+            pool.shutdown()
         else:
             for ch in chunks:
                 emit(chunk_rows(*args, ch, tuple(perturb), samples, seed))

@@ -31,6 +31,7 @@ from functools import cache
 import numpy as np
 
 from ..astro.sources import Inspiral, distance_at_redshift, redshift_at_distance
+from ..errors import UnknownNameError
 
 __all__ = ["horizon", "orientation_factors", "MEASURES", "MEASURE_LABELS", "PATTERNS", "Z_MIN", "Z_MAX"]
 
@@ -67,7 +68,7 @@ def orientation_factors(pattern: str, nodes: int = 24) -> tuple[float, float]:
         fp = (1 - mu**2) * np.cos(2 * psi) + 0 * phi
         fx = (1 - mu**2) * np.sin(2 * psi) + 0 * phi
     else:
-        raise KeyError(f"unknown antenna pattern {pattern!r}; expected one of {', '.join(PATTERNS)}")
+        raise UnknownNameError(f"unknown antenna pattern {pattern!r}; expected one of {', '.join(PATTERNS)}")
     theta2 = fp**2 * (1 + ci**2) ** 2 / 4 + fx**2 * ci**2
     m2 = float(np.sum(weight * theta2))
     m3 = float(np.sum(weight * theta2**1.5))
@@ -96,7 +97,7 @@ def horizon(snr_of_source, total_mass, threshold=8.0, measure="sky-averaged", pa
     """
     from scipy.optimize import brentq  # slow to import; only horizons need it
     if measure not in MEASURES:
-        raise KeyError(f"unknown horizon measure {measure!r}; expected one of {', '.join(MEASURES)}")
+        raise UnknownNameError(f"unknown horizon measure {measure!r}; expected one of {', '.join(MEASURES)}")
     gain, divisor = orientation_factors(pattern) if measure != "sky-averaged" else (1.0, 1.0)
 
     def excess(logz):

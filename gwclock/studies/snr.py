@@ -35,6 +35,7 @@ import numpy as np
 from .. import engine
 from ..astro.sources import Inspiral, Monochromatic
 from ..engine.budget import SPAN
+from ..errors import InputError, UnknownNameError
 
 __all__ = ["SNRResult", "broadband_snr", "time_domain_snr", "reference_snr", "clock_snr", "TunedCurve", "SCHEDULES"]
 
@@ -168,7 +169,7 @@ def clock_snr(curve: TunedCurve, source, schedule="track", observation=None, tun
     T_obs = float(observation or design.duration)
     label = name or design.name
     if schedule not in SCHEDULES:
-        raise ValueError(f"unknown schedule {schedule!r}; expected one of {', '.join(SCHEDULES)}")
+        raise UnknownNameError(f"unknown schedule {schedule!r}; expected one of {', '.join(SCHEDULES)}")
     if isinstance(source, Monochromatic):
         f0 = float(tune or source.frequency)
         s, _ = engine.window_psd(design, [f0], [source.frequency])
@@ -207,7 +208,7 @@ def _fixed_schedule(curve, source, tau_start, tau_end, f1, f2, tune, label):
 
 def _track_schedule(curve, source, tau_start, tau_end, f1, f2, cadence, overhead, label):
     if cadence <= 0 or overhead < 0 or overhead >= cadence:
-        raise ValueError("need cadence > 0 and 0 <= overhead < cadence")
+        raise InputError("need cadence > 0 and 0 <= overhead < cadence")
     live = 1.0 - overhead / cadence
     # slow part: the window hardly moves within one interval -> the envelope at f(t)
     tau = np.geomspace(tau_end, tau_start, _SAMPLES)
@@ -227,7 +228,7 @@ def _track_schedule(curve, source, tau_start, tau_end, f1, f2, cadence, overhead
         edges = edges[edges <= tau_start]
         if edges.size >= 2:
             if edges.size > 20001:
-                raise ValueError("the retuning cadence is too fine for the source's last phase: more than 20000 "
+                raise InputError("the retuning cadence is too fine for the source's last phase: more than 20000 "
                                  "retunings; choose a longer cadence")
             lo, hi = edges[:-1], edges[1:]
             mid = 0.5 * (lo + hi)
