@@ -6,6 +6,7 @@ Config files and the command line carry units in their values; this module turns
 
 from __future__ import annotations
 
+import functools
 import math
 import warnings
 
@@ -46,41 +47,61 @@ def parse_quantity(value: object, unit: u.UnitBase | str, *, allow_plain: bool =
     >>> parse_quantity("40 mW", "W")
     <Quantity 0.04 W>
     """
-    unit = u.Unit(unit)
-    expected = f"a number with a unit of {unit.physical_type} such as '1 {unit.to_string()}'"
+    unit = _unit(unit) if isinstance(unit, str) else u.Unit(unit)
     if isinstance(value, bool):
-        raise ValueError(f"expected {expected}")
+        raise ValueError(f"expected {_expected(unit)}")
     if isinstance(value, u.Quantity):
         q = value
     elif isinstance(value, (int, float)):
         if not allow_plain:
-            raise ValueError(f"missing unit: expected {expected}")
+            raise ValueError(f"missing unit: expected {_expected(unit)}")
         q = float(value) * unit
     elif isinstance(value, str):
-        text = value.strip()
         try:
-            with warnings.catch_warnings():
-                # "m / s2 / Hz(1/2)" is read correctly (left to right); astropy's style warning about
-                # several slashes is not the user's concern
-                warnings.simplefilter("ignore", u.UnitsWarning)
-                q = u.Quantity(text)
+            number, written = _read(value.strip())
         except (TypeError, ValueError):
-            raise ValueError(f"cannot read it as a quantity: expected {expected}") from None
-        if q.unit == u.dimensionless_unscaled and unit != u.dimensionless_unscaled:
+            raise ValueError(f"cannot read it as a quantity: expected {_expected(unit)}") from None
+        if number is None:
+            raise ValueError(f"expected a single value, {_expected(unit)}")
+        if written == u.dimensionless_unscaled and unit != u.dimensionless_unscaled:
             if not allow_plain:
-                raise ValueError(f"missing unit: expected {expected}")
-            q = q.value * unit
+                raise ValueError(f"missing unit: expected {_expected(unit)}")
+            written = unit
+        q = u.Quantity(number, written)
     else:
-        raise ValueError(f"expected {expected}")
+        raise ValueError(f"expected {_expected(unit)}")
     if not q.isscalar:
-        raise ValueError(f"expected a single value, {expected}")
-    try:
-        q = q.to(unit)
-    except u.UnitConversionError:
-        raise ValueError(f"wrong dimension ({q.unit.physical_type}): expected {expected}") from None
+        raise ValueError(f"expected a single value, {_expected(unit)}")
+    if q.unit is not unit:
+        try:
+            q = q.to(unit)
+        except u.UnitConversionError:
+            raise ValueError(f"wrong dimension ({q.unit.physical_type}): expected {_expected(unit)}") from None
     if not math.isfinite(float(q.value)):
-        raise ValueError(f"not finite: expected {expected}")
+        raise ValueError(f"not finite: expected {_expected(unit)}")
     return q
+
+
+def _expected(unit) -> str:
+    return f"a number with a unit of {unit.physical_type} such as '1 {unit.to_string()}'"
+
+
+@functools.lru_cache(maxsize=256)
+def _unit(text: str) -> u.UnitBase:
+    """A unit named in the code (parsed once: astropy's parser is slow, and sweeps ask often)."""
+    return u.Unit(text)
+
+
+@functools.lru_cache(maxsize=4096)
+def _read(text: str):
+    """(number, unit) of a quantity written as text (number None for several values); cached, as a
+    sweep re-reads the same texts."""
+    with warnings.catch_warnings():
+        # "m / s2 / Hz(1/2)" is read correctly (left to right); astropy's style warning about
+        # several slashes is not the user's concern
+        warnings.simplefilter("ignore", u.UnitsWarning)
+        q = u.Quantity(text)
+    return (float(q.value) if q.isscalar else None), q.unit
 
 
 def parse_frequency(value: object) -> float:

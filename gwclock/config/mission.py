@@ -31,6 +31,14 @@ __all__ = ["Mission", "load_mission", "mission_from_dict", "validation_error", "
 
 DEFAULT_MISSION = "default"
 
+_ACCELERATION_ASD = u.Unit("m / (s2 Hz(1/2))")
+
+
+def _si(q: u.Quantity, unit) -> float:
+    """The value in ``unit`` as a float (fields are stored in their own unit: then no conversion)."""
+    return float(q.value) if q.unit == unit else float(q.to_value(unit))
+
+
 def _quantity(unit: str, lo: float | None = None, hi: float | None = None, *, lo_open: bool = False,
               field: str | None = None):
     """A pydantic field type: text with a unit, converted to ``unit`` and range-checked."""
@@ -214,7 +222,7 @@ class Mission(_Section):
     def design(self) -> Design:
         """The SI-float parameter set that the engine evaluates."""
         sp = SPECIES[self.clock.species]
-        si = lambda q, unit: float(q.to_value(unit))  # noqa: E731
+        si = _si
         tune = None if self.sequence.tune == "auto" else si(self.sequence.tune, u.Hz)
         return Design(
             name=self.name,
@@ -244,7 +252,7 @@ class Mission(_Section):
                                   else self.laser.linewidth, u.Hz),
             receiver_flicker_floor=(self.laser.receiver_flicker_floor if self.laser.receiver_flicker_floor is not None
                                     else self.laser.flicker_floor),
-            acceleration_noise=si(self.spacecraft.acceleration_noise, "m / (s2 Hz(1/2))"),
+            acceleration_noise=si(self.spacecraft.acceleration_noise, _ACCELERATION_ASD),
             acceleration_corner=si(self.spacecraft.acceleration_corner, u.Hz),
             kind=self.sequence.kind,
             max_interrogation=si(self.max_interrogation, u.s),
