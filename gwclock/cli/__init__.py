@@ -15,7 +15,7 @@ import threading
 from ..errors import InputError
 from ..files import STOP
 from ..version import __version__
-from . import design, documents, science, study
+from . import common, design, documents, science, study
 from .common import Parser
 
 __all__ = ["main"]
@@ -70,6 +70,7 @@ def main(argv=None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
     argv = [a for a in argv if a != "--debug"]  # taken anywhere, before or after the command
+    common.COMMAND_LINE[:] = ["gwclock", *argv]
     STOP.clear()  # a new run
     _stop_politely_on_sigterm()
     try:

@@ -8,6 +8,7 @@ one line and exit code 2.
 from __future__ import annotations
 
 import argparse
+import shlex
 import sys
 
 import numpy as np
@@ -16,6 +17,7 @@ from ..config.mission import mission_from_dict
 from ..engine.budget import SPAN, frequency_grid
 from ..errors import InputError
 from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
+from ..outputs.latex import LATEX_FORMATS, write_latex
 from ..outputs.plotting import save_figure
 from ..outputs.tables import write_table
 from ..physics.noises import pulse_bandwidth
@@ -23,7 +25,7 @@ from ..quantities import checked_frequency, parse_quantity
 from ..version import __version__
 
 __all__ = ["Parser", "mission_arg", "grid_args", "output_args", "frequency", "grid", "tuned", "quantity",
-           "number", "check_outputs", "warn", "check_reach", "save_table", "save_plot", "DEFAULT_FMIN",
+           "number", "check_outputs", "warn", "check_reach", "latex_arg", "latex_provenance", "save_latex", "save_table", "save_plot", "DEFAULT_FMIN",
            "DEFAULT_FMAX", "DEFAULT_POINTS"]
 
 DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = f"{SPAN[0]:g} Hz", f"{SPAN[1]:g} Hz", 400
@@ -133,11 +135,33 @@ def number(text, option, lo=0.0):
 
 
 def check_outputs(args) -> None:
-    """Check a command's ``--table`` and ``--plot`` paths before any work is done."""
+    """Check a command's ``--table``, ``--plot`` and ``--latex`` paths before any work is done."""
     if getattr(args, "table", None):
         check_output_path(args.table, TABLE_FORMATS)
     if getattr(args, "plot", None):
         check_output_path(args.plot, FIGURE_FORMATS)
+    if getattr(args, "latex", None):
+        check_output_path(args.latex, LATEX_FORMATS)
+
+
+#: The command line of this run, as the user could type it again (set by :func:`gwclock.cli.main`).
+COMMAND_LINE = ["gwclock"]
+
+
+def latex_arg(sp, what):
+    """``--latex FILE``: the same result as a LaTeX table (booktabs and siunitx)."""
+    sp.add_argument("--latex", help=f"write {what} as a LaTeX table here (.tex; booktabs + siunitx)")
+
+
+def latex_provenance(mission, digest) -> dict:
+    """The comment lines of a LaTeX table: the command line and the mission it used."""
+    return {"command": shlex.join(COMMAND_LINE), "mission": f"{mission.name} (sha256 {digest})",
+            "tool": f"gwclock {__version__}"}
+
+
+def save_latex(text, path):
+    write_latex(text, path)
+    print(f"wrote LaTeX table {path}")
 
 
 def save_table(table, path):

@@ -14,13 +14,30 @@ from ..config.mission import load_mission
 from ..constants import MPC, MSUN, YEAR
 from ..engine import envelope
 from ..errors import InputError
+from ..outputs.latex import Raw, astropy_latex, escape
 from ..outputs.plotting import plot_lines
 from ..outputs.tables import Column, provenance, reference_table, snr_table, track_table
 from ..quantities import checked_frequency
 from ..studies import background as bg
 from ..studies.horizon import MEASURE_LABELS, MEASURES, Z_MAX, horizon
 from ..studies.snr import SCHEDULES, TunedCurve, clock_snr, reference_snr
-from .common import check_outputs, check_reach, frequency, grid, grid_args, mission_arg, number, output_args, quantity, save_plot, save_table, tuned
+from .common import (
+    check_outputs,
+    check_reach,
+    frequency,
+    grid,
+    grid_args,
+    latex_arg,
+    latex_provenance,
+    mission_arg,
+    number,
+    output_args,
+    quantity,
+    save_latex,
+    save_plot,
+    save_table,
+    tuned,
+)
 
 __all__ = ["add_commands"]
 
@@ -202,9 +219,17 @@ def cmd_snr(args):
     for r in rows:
         band = f"{r.f_start:.3g}-{r.f_end:.3g} Hz" if np.isfinite(r.f_start) else "-"
         print(f"{r.detector[:32]:32s} {r.source[:30]:30s} {r.schedule:9s} {r.snr:10.4g}  {band}  {r.note}")
+    t = snr_table(rows, mission.name, digest)
+    t.meta.update(cadence_s=cadence, overhead_s=overhead, observation_s=T)
     if args.table:
-        t = snr_table(rows, mission.name, digest)
         save_table(t, args.table)
+    if args.latex:
+        caption = (f"SNR of each source in {mission.name} (clock schedule {args.schedule}; retuning every "
+                   f"{cadence:g} s with {overhead:g} s lost each time) and in the reference detectors, sky-, "
+                   f"polarisation- and inclination-averaged, over {T / YEAR:.3g} yr unless noted.")
+        titles = {"snr": "SNR", "f_start": "from", "f_end": "to", "observed": "observed"}
+        save_latex(astropy_latex(t, caption, "tab:snr", latex_provenance(mission, digest), skip=("note",),
+                                 titles=titles), args.latex)
     return 0
 
 
@@ -238,6 +263,18 @@ def cmd_horizon(args):
                   note=f"0 means below threshold at any distance; inf means beyond z = {Z_MAX:g}")
     if args.table:
         save_table(t, args.table)
+    if args.latex:
+        measure = MEASURE_LABELS[args.measure]
+        caption = Raw(f"{escape(measure[:1].upper() + measure[1:])} at SNR {thr:g} of equal-mass binaries (source-frame "
+                      f"total mass; Planck18 cosmology) for {escape(mission.name)} (clock schedule {args.schedule}) "
+                      f"and the reference detectors (the table file holds the luminosity distances too); 0 means below "
+                      f"threshold at any distance, $\\infty$ beyond $z = {Z_MAX:g}$.")
+        keys = [key for key, *_ in detectors]
+        short = {k: label.split(" (")[0].split(",")[0] for k, label, *_ in detectors}  # "LISA, 2 channels": LISA
+        titles = {"total_mass": "total mass", **{f"z_{k}": short[k] for k in keys}}
+        groups = [("horizon redshift z", 1, len(keys))]
+        save_latex(astropy_latex(t, caption, "tab:horizon", latex_provenance(mission, digest), titles=titles,
+                                 skip=[f"distance_{k}" for k in keys], groups=groups), args.latex)
     if args.plot:
         save_plot(args.plot, lambda ax: plot_lines([(lab, x, np.where(np.isfinite(y), y, np.nan)) for lab, x, y in series],
                                                  ax=ax, xlabel=r"total mass [$M_\odot$] (source frame)",
@@ -376,6 +413,7 @@ def add_commands(sub):
     sp.add_argument("--observation", help="observing time (default: the mission's duration)")
     against_args(sp, "reference detectors or curve files")
     output_args(sp, plot=False)
+    latex_arg(sp, "the SNR table")
     sp.set_defaults(func=cmd_snr)
 
     sp = sub.add_parser("horizon", help="redshift and distance reached at an SNR, versus total mass")
@@ -387,6 +425,7 @@ def add_commands(sub):
     schedule_arg(sp)
     against_args(sp, f"references (default: {' '.join(DEFAULT_COMPARISON)})")
     output_args(sp)
+    latex_arg(sp, "the horizon table")
     sp.set_defaults(func=cmd_horizon)
 
     sp = sub.add_parser("background", help="stochastic-background sensitivity (Omega_gw)")

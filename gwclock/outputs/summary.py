@@ -8,31 +8,50 @@ import numpy as np
 __all__ = ["describe_mission", "summarise_budget"]
 
 
+SECTIONS = ("link", "clock", "laser", "spacecraft", "sequence", "observation")
+
+
+def mission_rows(mission):
+    """The resolved mission as rows ``(section, field, value, unit, note)``: quantities split into
+    their number and unit (None for plain values), defaults that follow another field resolved
+    and noted."""
+    rows = []
+    for section in SECTIONS:
+        model = getattr(mission, section)
+        for key in type(model).model_fields:
+            value = getattr(model, key)
+            note = ""
+            if key == "coherence_time" and value is None:
+                value, note = mission.coherence_time, "species lifetime"
+            elif key == "max_interrogation" and value is None:
+                value, note = mission.max_interrogation, "3 coherence times"
+            elif key in ("receiver_linewidth", "receiver_flicker_floor") and value is None:
+                master = key.removeprefix("receiver_")
+                value, note = getattr(model, master), f"same as {master}"
+            unit = None
+            if isinstance(value, u.Quantity):
+                value, unit = float(value.value), value.unit
+            elif isinstance(value, (list, tuple)):
+                value = ", ".join(f"{v:g}" for v in value) if value else "none"
+            elif value is None:
+                value = "none"
+            rows.append((section, key, value, unit, note))
+    return rows
+
+
 def describe_mission(mission, digest):
     """The resolved mission, with units, as text."""
     lines = [f"mission: {mission.name}  (sha256 {digest})"]
     if mission.description:
         lines.append(f"  {mission.description}")
-    for section in ("link", "clock", "laser", "spacecraft", "sequence", "observation"):
-        lines.append(f"[{section}]")
-        model = getattr(mission, section)
-        for key in type(model).model_fields:
-            value = getattr(model, key)
-            if key == "coherence_time" and value is None:
-                value = mission.coherence_time
-                note = "  (species lifetime)"
-            elif key == "max_interrogation" and value is None:
-                value = mission.max_interrogation
-                note = "  (3 coherence times)"
-            elif key in ("receiver_linewidth", "receiver_flicker_floor") and value is None:
-                master = key.removeprefix("receiver_")
-                value = getattr(model, master)
-                note = f"  (same as {master})"
-            else:
-                note = ""
-            if isinstance(value, u.Quantity):
-                value = f"{value.value:.6g} {value.unit.to_string()}"
-            lines.append(f"  {key} = {value}{note}")
+    last = None
+    for section, key, value, unit, note in mission_rows(mission):
+        if section != last:
+            lines.append(f"[{section}]")
+            last = section
+        if unit is not None:
+            value = f"{value:.6g} {unit.to_string()}"
+        lines.append(f"  {key} = {value}" + (f"  ({note})" if note else ""))
     return "\n".join(lines)
 
 
