@@ -408,3 +408,47 @@ def test_valid_runs_print_no_warning(tmp_path, monkeypatch, capsys):
                  ["check", str(MISSIONS[0])]):
         code, _, err = run(argv, capsys)
         assert code == 0 and err == ""
+
+
+class TestCompare:
+    """``gwclock compare``: the fields that differ, each mission's curve and the ratio to the first."""
+
+    def test_four_times_the_atoms_halve_a_projection_limited_curve(self, tmp_path, capsys):
+        # quantum projection noise: ASD ~ N^-1/2 (Itano et al. 1993, Phys. Rev. A 47, 3554)
+        from .test_sweep import QUIET
+        a, b = tmp_path / "a.toml", tmp_path / "b.toml"
+        a.write_text(QUIET)
+        b.write_text(QUIET.replace("atom_number = 1e5", "atom_number = 4e5"))
+        table, fig = tmp_path / "c.ecsv", tmp_path / "c.png"
+        code, out, _ = run(["compare", a, b, "--points", 60, "--table", table, "--plot", fig], capsys)
+        assert code == 0
+        assert "differ in 1 field:" in out and "clock.atom_number" in out
+        t = QTable.read(table)
+        ratio = np.asarray(t["ratio_2"], dtype=float)
+        ba = envelope(load_mission(a)[0].design(), t["frequency"].value)
+        bb = envelope(load_mission(b)[0].design(), t["frequency"].value)
+        pure = (ba.psd["projection"] / ba.total > 0.999) & (bb.psd["projection"] / bb.total > 0.999)
+        assert pure.sum() > 20
+        np.testing.assert_allclose(ratio[pure], 0.5, rtol=1e-3, atol=0)
+        np.testing.assert_allclose(t["asd_2"].value, bb.asd, rtol=1e-12, atol=0)
+        assert fig.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+    def test_a_mission_against_itself_differs_nowhere(self, tmp_path, capsys):
+        code, out, _ = run(["compare", "default", MISSIONS[0], MISSIONS[0], "--points", 20, "--table",
+                            tmp_path / "c.csv", "--latex", tmp_path / "c.tex"], capsys)
+        assert code == 0
+        t = Table.read(tmp_path / "c.csv", format="ascii.csv", comment="#")
+        np.testing.assert_array_equal(t["ratio_3"], t["ratio_2"])
+        assert not np.allclose(t["ratio_2"], 1.0)  # the default and the first shipped mission do differ
+        assert r"\toprule" in (tmp_path / "c.tex").read_text()
+
+    @pytest.mark.parametrize("argv, fragment", [
+        (["compare", "default"], "give two or more missions"),
+        (["compare", "default", "nope.toml"], "nope.toml: mission file not found"),
+        (["compare", "default", "default", "--latex", "x.doc"], "unsupported file type '.doc'"),
+    ])
+    def test_bad_comparisons(self, tmp_path, monkeypatch, capsys, argv, fragment):
+        monkeypatch.chdir(tmp_path)
+        code, _, err = run(argv, capsys)
+        assert code == 2 and fragment in err and err.count("\n") == 1
+        assert list(tmp_path.iterdir()) == []

@@ -1,18 +1,22 @@
-"""Commands about one mission's design: ``check``, ``curve``, ``window`` and ``species``."""
+"""Commands about missions' designs: ``check``, ``curve``, ``window``, ``compare`` and ``species``."""
 
 from __future__ import annotations
 
+import shlex
+
 import numpy as np
+from astropy.table import Table
 
 from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
-from ..outputs.latex import budget_latex, mission_latex
-from ..outputs.plotting import plot_budget
-from ..outputs.summary import describe_mission, mission_rows, summarise_budget
-from ..outputs.tables import budget_table
+from ..outputs.latex import Raw, budget_latex, latex_number, latex_unit, mission_latex, table_latex
+from ..outputs.plotting import plot_budget, plot_comparison, save_figure
+from ..outputs.summary import describe_mission, mission_differences, mission_rows, summarise_budget
+from ..outputs.tables import Column, budget_table, provenance
 from ..physics.species import SPECIES
 from .common import (
+    COMMAND_LINE,
     check_outputs,
     check_reach,
     frequency,
@@ -96,6 +100,64 @@ def cmd_window(args):
     return 0
 
 
+def cmd_compare(args):
+    if len(args.missions) < 2:
+        raise InputError("give two or more missions to compare (a file, or 'default')", source="command line",
+                         field="MISSION")
+    if len(args.missions) > 8:
+        raise InputError("at most 8 missions in one comparison", source="command line", field="MISSION")
+    loaded = [load_mission(None if m == "default" else m) for m in args.missions]
+    missions = [m for m, _ in loaded]
+    f = grid(args)
+    check_outputs(args)
+    diff = mission_differences(missions)
+    budgets = [envelope(m.design(), f) if m.design().tune is None else window(m.design(), f) for m in missions]
+    heads = ["field"] + [f"[{i + 1}] {m.name}" for i, m in enumerate(missions)]
+    cells = [[key, *texts] for key, _, _, texts in diff]
+    widths = [max(len(r[j]) for r in [heads, *cells]) for j in range(len(heads))]
+    print(f"{len(missions)} missions; they differ in {len(diff)} field{'s' if len(diff) != 1 else ''}:")
+    for r in [heads, *cells]:
+        print("  " + "  ".join(c.ljust(w) for c, w in zip(r, widths)).rstrip())
+    base = budgets[0].asd
+    for i, (m, b) in enumerate(zip(missions, budgets), start=1):
+        k = int(np.argmin(b.asd))
+        line = f"  [{i}] {m.name}: best ASD {b.asd[k]:.3e} Hz^-1/2 at {f[k]:.4g} Hz"
+        if i > 1:
+            r = b.asd / base
+            lo, hi = int(np.argmin(r)), int(np.argmax(r))
+            line += f"; ASD / [1] from {r[lo]:.3g} (at {f[lo]:.3g} Hz) to {r[hi]:.3g} (at {f[hi]:.3g} Hz)"
+        print(line)
+    if args.table:
+        t = Table()
+        t["frequency"] = Column(f, unit="Hz")
+        for i, b in enumerate(budgets, start=1):
+            t[f"asd_{i}"] = Column(b.asd, unit="Hz(-1/2)")
+        for i, b in enumerate(budgets[1:], start=2):
+            t[f"ratio_{i}"] = Column(b.asd / base)
+        t.meta.update(provenance(missions[0].name, loaded[0][1]))
+        t.meta["missions"] = [f"[{i}] {m.name} (sha256 {d})" for i, (m, d) in enumerate(loaded, start=1)]
+        t.meta["note"] = "asd_i: mission i's curve (the envelope, or its window when it fixes sequence.tune); ratio_i = asd_i / asd_1"
+        save_table(t, args.table)
+    if args.plot:
+        art = plot_comparison([m.name for m in missions], f, [b.asd for b in budgets])
+        save_figure(art["asd"].figure, args.plot, metadata={
+            "Title": "comparison of " + ", ".join(m.name for m in missions), "Creator": shlex.join(COMMAND_LINE),
+            "Subject": "; ".join(f"[{i}] sha256 {d}" for i, (_, d) in enumerate(loaded, start=1))})
+        print(f"wrote figure {args.plot}")
+    if args.latex:
+        names = [m.name for m in missions]
+        rows = [(key, *[Raw(latex_number(v, 6) + (f"~{latex_unit(unit)}" if unit is not None else "")) for v in values])
+                for key, values, unit, _ in diff]
+        columns = [("parameter", None, "l")] + [(f"[{i}] {n}", None, "l") for i, n in enumerate(names, start=1)]
+        caption = "Parameters in which the missions differ (all others are equal): " + "; ".join(
+            f"[{i}] {n}" for i, n in enumerate(names, start=1)) + "."
+        prov = latex_provenance(missions[0], loaded[0][1])
+        prov["missions"] = "; ".join(f"[{i}] {m.name} (sha256 {d})" for i, (m, d) in enumerate(loaded, start=1))
+        save_latex(table_latex(rows or [("(none)", *[""] * len(names))], columns, caption, "tab:mission-differences", prov),
+                   args.latex)
+    return 0
+
+
 def cmd_species(args):
     for s in SPECIES.values():
         print(f"{s.key:7s} {s.digits} Hz  lifetime {s.lifetime:g} s  {s.transition}")
@@ -127,5 +189,10 @@ def add_commands(sub):
     grid_args(sp)
     _budget_latex_args(sp)
     sp.set_defaults(func=cmd_window)
+    sp = sub.add_parser("compare", help="two or more missions: the fields that differ, their curves and ratio")
+    sp.add_argument("missions", nargs="+", metavar="MISSION", help="mission files ('default': the built-in one)")
+    grid_args(sp)
+    latex_arg(sp, "the table of differences")
+    sp.set_defaults(func=cmd_compare)
     sp = sub.add_parser("species", help="list the clock species presets with their sources")
     sp.set_defaults(func=cmd_species)

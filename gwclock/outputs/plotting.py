@@ -12,7 +12,7 @@ import numpy as np
 from ..files import FIGURE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
 
-__all__ = ["plot_budget", "plot_lines", "draw_scan", "draw_sweep", "save_figure", "noise_styles", "SERIES_STYLES"]
+__all__ = ["plot_budget", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep", "save_figure", "noise_styles", "SERIES_STYLES"]
 
 def noise_styles() -> dict[str, dict]:
     """Line style of each noise of the registry (colour-blind-safe hues, distinct dashes)."""
@@ -107,6 +107,49 @@ SOURCE_STYLES = [
     dict(color="#8C6D31", linestyle="-", lw=0.9),
     dict(color="#444444", linestyle=(0, (3, 1)), lw=0.9),
 ]
+
+
+def plot_comparison(names, f, asds, fig=None):
+    """Missions side by side: their strain ASDs (top) and each one's ratio to the first (bottom).
+
+    Parameters
+    ----------
+    names : list of str
+    f : array, Hz
+    asds : list of arrays, Hz^-1/2, one per mission (the first is the reference of the ratios)
+    fig : matplotlib Figure, optional
+        Drawn on (two axes are added); a new one when omitted.
+
+    Returns
+    -------
+    dict
+        ``{"asd": Axes, "ratio": Axes, "curves": [Line2D], "ratios": [Line2D]}``.
+    """
+    from matplotlib.figure import Figure
+
+    fig = fig if fig is not None else Figure(figsize=(6.4, 5.6), layout="constrained")
+    top, bottom = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
+    curves, ratios = [], []
+    for i, (name, asd) in enumerate(zip(names, asds)):
+        st = MISSION_STYLES[i % len(MISSION_STYLES)]
+        asd = np.asarray(asd, dtype=float)
+        (ln,) = top.plot(f, np.where(asd > 0, asd, np.nan), label=f"[{i + 1}] {name}", **st)
+        curves.append(ln)
+        if i:
+            (r,) = bottom.plot(f, asd / np.asarray(asds[0], dtype=float), color=st["color"], linestyle=st["linestyle"],
+                               lw=1.4, label=f"[{i + 1}] / [1]")
+            ratios.append(r)
+    bottom.axhline(1.0, color="0.5", lw=0.8)
+    for ax in (top, bottom):
+        ax.set_xscale("log")
+        ax.set_yscale("log")
+        ax.grid(True, which="major", alpha=0.35)
+    top.set_ylabel(r"strain ASD [Hz$^{-1/2}$]")
+    bottom.set_ylabel("ASD / [1]")
+    bottom.set_xlabel("frequency [Hz]")
+    top.legend(loc="best", fontsize="small", framealpha=0.85)
+    top.set_title("sky-averaged strain sensitivity (each mission's tuned envelope)", fontsize="medium")
+    return {"asd": top, "ratio": bottom, "curves": curves, "ratios": ratios}
 
 
 def plot_lines(series, ax=None, xlabel="frequency [Hz]", ylabel="", title=None, logy=True, marks=None):

@@ -5,7 +5,7 @@ from __future__ import annotations
 import astropy.units as u
 import numpy as np
 
-__all__ = ["describe_mission", "summarise_budget"]
+__all__ = ["describe_mission", "summarise_budget", "mission_rows", "mission_differences", "SECTIONS"]
 
 
 SECTIONS = ("link", "clock", "laser", "spacecraft", "sequence", "observation")
@@ -68,3 +68,23 @@ def summarise_budget(budget, name):
     if budget.mode == "envelope":
         lines.append("  (an envelope: each frequency uses its own tuning)")
     return "\n".join(lines)
+
+
+def _shown(value, unit):
+    return f"{value:.6g} {unit.to_string()}" if unit is not None else (f"{value:.6g}" if isinstance(value, float)
+                                                                       else str(value))
+
+
+def mission_differences(missions):
+    """The fields in which missions differ: a list of ``(section.field, [value per mission],
+    unit or None, [value per mission as text])`` in the order of the mission file's sections.
+    Values are compared as resolved (defaults filled in), each in its field's own unit."""
+    tables = [mission_rows(m) for m in missions]
+    out = []
+    for i, (section, key, _, unit, _) in enumerate(tables[0]):
+        values = [t[i][2] for t in tables]
+        units = [t[i][3] for t in tables]
+        if all(v == values[0] for v in values[1:]) and all(x == units[0] for x in units[1:]):
+            continue
+        out.append((f"{section}.{key}", values, unit, [_shown(v, x) for v, x in zip(values, units)]))
+    return out
