@@ -186,7 +186,9 @@ def test_spec_with_a_budget_a_band_and_limits(tmp_path):
     lines = [a for a in artists["annotations"] if hasattr(a, "get_xdata")]
     assert sorted(float(a.get_xdata()[0]) for a in lines) == pytest.approx([below[0], below[-1]], rel=1e-12, abs=0)
     labels = [t.get_text() for t in artists["legend"].get_texts()]
-    assert sum(lab.startswith("  ") for lab in labels) == 5  # one per noise (projection, shot, laser, receiver, acceleration)
+    # one entry per noise drawn (projection, shot, acceleration), the two equal lasers sharing one
+    assert sum(lab.startswith("  ") for lab in labels) == 4
+    assert "  laser residual ≈ receiving laser" in labels
     assert not any("1e+09" in lab for lab in labels)
 
 

@@ -228,3 +228,34 @@ def test_a_spec_may_be_a_dict():
     assert len(artists["curves"]) == 2
     with pytest.raises(InputError, match="form"):
         render_spec({"title": "t", "form": "power"})
+
+
+@pytest.mark.parametrize("size", ["two-column", "one-column"])
+def test_the_caption_and_band_label_sit_clear_of_the_legend_and_the_axes_labels(tmp_path, size):
+    # layout regression (common practice, no source): the convention caption under the axes and below
+    # the x label, the band label above the curves' usual region, neither over the legend
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    spec, _ = load_spec(ROOT / "plots" / "comparison.toml")
+    spec = spec.model_copy(update={"size": size})
+    fig, artists, _ = render_spec(spec, base_dir=ROOT / "plots")
+    FigureCanvasAgg(fig).draw()
+    r = fig.canvas.get_renderer()
+    ax = fig.axes[0]
+    caption = artists["caption"].get_window_extent(r)
+    legend = artists["legend"].get_window_extent(r)
+    xlabel = ax.xaxis.label.get_window_extent(r)
+    band = [a for a in artists["annotations"] if hasattr(a, "get_text") and a.get_text().startswith("ASD <")]
+    assert len(band) == 1
+    band = band[0].get_window_extent(r)
+    assert caption.y1 <= xlabel.y0 + 0.5 and not caption.overlaps(legend)
+    assert not band.overlaps(legend) and not band.overlaps(caption)
+    assert caption.y0 >= 0 and caption.x1 <= fig.bbox.x1 + 0.5  # inside the figure
+
+
+def test_the_caption_speaks_only_of_what_is_drawn():
+    # a figure of one mission states its convention only; references and sources add their parts
+    only = render_spec({"form": "asd", "mission": [{"file": "default"}]})[1]["caption"].get_text()
+    both = render_spec({"form": "asd", "mission": [{"file": "default"}], "reference": [{"name": "lisa"}],
+                        "point": [{"frequency": "3 mHz", "h0": 1e-22}]})[1]["caption"].get_text()
+    assert only == "sky-averaged"
+    assert "references S_n / channels" in both and "h0 sqrt(T)" in both

@@ -5,7 +5,7 @@ from matplotlib.figure import Figure
 
 from gwclock.config.mission import load_mission
 from gwclock.engine import envelope, window
-from gwclock.outputs.plotting import plot_budget
+from gwclock.outputs.plotting import merged_noises, plot_budget
 
 
 def test_budget_plot_artists():
@@ -19,8 +19,16 @@ def test_budget_plot_artists():
     assert "[Hz]" in ax.get_xlabel() and "Hz" in ax.get_ylabel()
     assert m.name in ax.get_title()
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
-    assert len(labels) == len(artists) and any("envelope" in s for s in labels)  # one per line drawn
+    # one per line drawn: the two lasers of the default mission share one specification, so one line
+    assert artists["laser"] is artists["receiver"] and "laser residual ≈ receiving laser" in labels
+    assert len(labels) == len({id(a) for a in artists.values()}) and any("envelope" in s for s in labels)
     assert artists["total"].get_linewidth() > artists["shot"].get_linewidth()
+
+
+def test_noises_are_merged_only_where_they_coincide():
+    f = np.geomspace(1, 10, 5)
+    groups = merged_noises({"a": f**-1, "b": f**-1 * (1 + 1e-4), "c": f**-1 * 1.5, "d": 0 * f})
+    assert [names for names, _ in groups] == [["a", "b"], ["c"]]
 
 
 def test_window_plot_label_names_the_tuning():

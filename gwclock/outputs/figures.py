@@ -23,7 +23,7 @@ from ..errors import InputError
 from ..files import inside
 from ..studies.background import hubble_constant, omega_noise
 from ..version import __version__
-from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES, noise_styles, save_figure
+from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES, merged_noises, noise_styles, save_figure
 
 __all__ = ["render_spec", "save_spec_figure", "YLABELS"]
 
@@ -81,10 +81,21 @@ def _drawn(draw, item, source, where):
         raise InputError(str(exc), source=source, field=where) from None
 
 
-#: The caption of each form: the convention in a few words.
-CAPTIONS = {"asd": "sky-averaged, references S_n / channels; sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)",
-            "hc": "sky-averaged, references S_n / channels; h_n = sqrt(f S_n); monochromatic h_c = h0 sqrt(f T)",
-            "omega": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0; references S_n / channels"}
+#: The caption of each form, in parts: the convention in a few words; the parts about reference
+#: detectors and sources appear only when the figure has them.
+CAPTIONS = {"asd": {"base": "sky-averaged", "reference": "references S_n / channels",
+                    "source": "sources: 2 sqrt(f)|h~| (inspirals), h0 sqrt(T) (monochromatic)"},
+            "hc": {"base": "sky-averaged; h_n = sqrt(f S_n)", "reference": "references S_n / channels",
+                   "source": "monochromatic h_c = h0 sqrt(f T)"},
+            "omega": {"base": "Omega_n = 4 pi^2 f^3 S_n / (3 H0^2), Planck18 H0", "reference": "references S_n / channels",
+                      "source": ""}}
+
+
+def caption(form, references=True, sources=True):
+    """The caption line of a figure in ``form`` with or without references and sources."""
+    parts = CAPTIONS[form]
+    return "; ".join(p for p, on in ((parts["base"], True), (parts["reference"], references),
+                                      (parts["source"], sources)) if on and p)
 
 
 class _Canvas:
@@ -100,6 +111,7 @@ class _Canvas:
         self.styles = {"mission": iter(MISSION_STYLES * 10), "reference": iter(REFERENCE_STYLES * 10),
                        "source": iter(SOURCE_STYLES * 10)}
         self.lw_scale = 0.75 if self.small else 1.0
+        self.bands = 0
 
     def form(self, f, s_n):
         return _transform(self.spec.form, f, s_n, self.h0)
@@ -135,12 +147,12 @@ class _Canvas:
             label = item.label or f"{mission.name} (tuned to {item.tune:.3g} Hz)"
         ln = self.line(f, self.form(f, b.total), label)
         if item.noises:
-            for name, nst in noise_styles().items():
-                y = self.form(f, b.psd[name])
-                if not np.any(y > 0):
-                    continue  # a noise the mission does not have gets no legend entry
+            styles = noise_styles()
+            # a noise the mission does not have gets no legend entry; coinciding ones share one
+            for names, y in merged_noises({name: self.form(f, b.psd[name]) for name in styles}):
+                nst = styles[names[0]]
                 (c,) = ax.plot(f, np.where(y > 0, y, np.nan), color=nst["color"], linestyle=nst["linestyle"],
-                               lw=0.9 * self.lw_scale, label=f"  {nst['label']}")
+                               lw=0.9 * self.lw_scale, label="  " + " ≈ ".join(styles[n]["label"] for n in names))
                 self.artists["curves"].append(c)
         if item.mode == "window":
             self.artists["annotations"].append(ax.axvline(item.tune, color=ln.get_color(), lw=0.6, linestyle=":"))
@@ -153,9 +165,18 @@ class _Canvas:
             return
         for x in (lo, hi):
             self.artists["annotations"].append(self.ax.axvline(x, color=colour, lw=0.6, linestyle="--"))
+        # a bracket near the top of the axes (x in data, y in axes units), clear of the curves and
+        # the legend; further bands stack below it
+        y = 0.97 - 0.07 * self.bands
+        self.bands += 1
+        where = self.ax.get_xaxis_transform()
         self.artists["annotations"].append(self.ax.annotate(
-            f"ASD < {level:.0e}: {lo:.2g}-{hi:.2g} Hz", (np.sqrt(lo * hi), level),
-            fontsize="x-small", ha="center", va="bottom", color=colour))
+            "", xy=(lo, y), xytext=(hi, y), xycoords=where, textcoords=where,
+            arrowprops=dict(arrowstyle="<->", color=colour, lw=0.7, shrinkA=0, shrinkB=0)))
+        self.artists["annotations"].append(self.ax.text(
+            np.sqrt(lo * hi), y - 0.012, f"ASD < {level:.0e}: {lo:.2g}-{hi:.2g} Hz", transform=where,
+            fontsize="x-small", ha="center", va="top", color=colour,
+            bbox=dict(boxstyle="square,pad=0.1", facecolor="white", edgecolor="none", alpha=0.8)))
 
     def reference(self, item):
         try:
@@ -217,8 +238,11 @@ class _Canvas:
             self.artists["legend"] = ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, frameon=False)
         else:
             self.artists["legend"] = ax.legend(loc="best", framealpha=0.85)
-        self.artists["caption"] = ax.text(0.995, 0.005, CAPTIONS[spec.form], transform=ax.transAxes,
-                                          fontsize=4 if self.small else 6, color="0.35", ha="right", va="bottom")
+        # the convention, under the axes (inside the layout, so that nothing is drawn over it)
+        text = caption(spec.form, bool(spec.reference), bool(spec.track or spec.point))
+        self.artists["caption"] = ax.annotate(text, (1.0, 0.0), xycoords=("axes fraction", ax.xaxis.label),
+                                              xytext=(0, -2), textcoords="offset points",
+                                              fontsize=4 if self.small else 6, color="0.35", ha="right", va="top")
 
 
 def save_spec_figure(fig, path, spec, digest, provenance):

@@ -12,11 +12,29 @@ import numpy as np
 from ..files import FIGURE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
 
-__all__ = ["plot_budget", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep", "save_figure", "noise_styles", "SERIES_STYLES"]
+__all__ = ["merged_noises", "plot_budget", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep", "save_figure", "noise_styles", "SERIES_STYLES"]
 
 def noise_styles() -> dict[str, dict]:
     """Line style of each noise of the registry (colour-blind-safe hues, distinct dashes)."""
     return {k: dict(color=n.colour, linestyle=n.dashes, label=n.label) for k, n in NOISES.items()}
+
+
+def merged_noises(curves: dict) -> list[tuple[list[str], np.ndarray]]:
+    """Noises to draw, with those whose curves coincide on the page (within 1 % everywhere, e.g. two
+    lasers of the same specification) merged into one entry, labelled "a ≈ b": a list of (names,
+    curve); a curve that is zero everywhere is left out."""
+    groups: list[tuple[list[str], np.ndarray]] = []
+    for name, y in curves.items():
+        y = np.asarray(y, dtype=float)
+        if not np.any(y > 0):
+            continue
+        for names, z in groups:
+            if np.allclose(y, z, rtol=1e-2, atol=0):
+                names.append(name)
+                break
+        else:
+            groups.append(([name], y))
+    return groups
 
 
 def _new_axes(ax, size=(6.4, 4.2)):
@@ -50,12 +68,14 @@ def plot_budget(budget, ax=None, title=None, components=True):
     artists = {}
     floor = np.max(budget.asd) * 1e-12
     if components:
-        for name, style in noise_styles().items():
-            y = budget.asd_of(name)
-            if not np.any(y > floor):
-                continue  # a noise the mission does not have (zero everywhere) gets no legend entry
-            y = np.where(y > floor, y, np.nan)
-            (artists[name],) = ax.plot(f, y, lw=1.3, **style)
+        styles = noise_styles()
+        curves = {name: np.where(budget.asd_of(name) > floor, budget.asd_of(name), 0.0) for name in styles}
+        # a noise the mission does not have (zero everywhere) gets no legend entry; equal ones share one
+        for names, y in merged_noises(curves):
+            style = dict(styles[names[0]], label=" ≈ ".join(styles[n]["label"] for n in names))
+            (line,) = ax.plot(f, np.where(y > 0, y, np.nan), lw=1.3, **style)
+            for n in names:
+                artists[n] = line
     label = "total (tuned envelope)" if budget.mode == "envelope" else \
         f"total (fixed tuning {float(budget.tuning[0]):.3g} Hz)"
     (artists["total"],) = ax.plot(f, budget.asd, color="black", lw=2.4, label=label)
