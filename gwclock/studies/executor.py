@@ -20,7 +20,7 @@ import numpy as np
 from astropy.table import Table
 
 from ..errors import InputError
-from .sweep import evaluate_points, parse_metric, perturbed_metrics, point
+from .sweep import Axis, evaluate_points, parse_metric, perturbed_metrics, point
 
 __all__ = ["run_sweep", "chunk_rows", "grid_size", "Progress", "CHUNK_POINTS", "MAX_POINTS"]
 
@@ -79,19 +79,24 @@ def _stop_pool(pool, timeout=5.0):
             proc.kill()
 
 
-def chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed):
-    """Evaluate one chunk of grid points; returns an astropy Table (runs in workers too)."""
+def chunk_rows(mission, axes, metric_texts, combos, perturb, samples, seed, indices=None):
+    """Evaluate one chunk of grid points; returns an astropy Table (runs in workers too).
+
+    ``combos`` index into ``axes``; ``indices`` are the points' places in the whole grid (they seed
+    the Monte-Carlo draws), computed from ``axes`` when not given."""
     metrics = [parse_metric(t) for t in metric_texts]
+    if indices is None:
+        indices = [_index(axes, c) for c in combos]
     sub = [point(mission, axes, combo) for combo in combos]
     valid = [(c, m) for c, m, r in sub if m is not None]
     if perturb:
         values = {col: np.full(len(sub), np.nan) for m in metrics for col in m.columns}
         lows = {col: np.full(len(sub), np.nan) for col in values}
         highs = {col: np.full(len(sub), np.nan) for col in values}
-        for j, (c, m, _) in enumerate(sub):
+        for j, (_, m, _) in enumerate(sub):
             if m is None:
                 continue
-            stats, _ = perturbed_metrics(m, metrics, perturb, samples, seed + _index(axes, c))
+            stats, _ = perturbed_metrics(m, metrics, perturb, samples, seed + indices[j])
             for col, (med, p5, p95) in stats.items():
                 values[col][j], lows[col][j], highs[col][j] = med, p5, p95
     else:
@@ -125,6 +130,21 @@ def _index(axes, combo):
     return i
 
 
+def _task(axes, combos):
+    """What one chunk needs of the axes: each axis cut to the values its points use (a worker is
+    sent its slice, not a million-value axis), the points' combos into those slices, and their
+    places in the whole grid."""
+    indices = [_index(axes, c) for c in combos]
+    cut, local = [], [[] for _ in combos]
+    for k, a in enumerate(axes):
+        used = sorted({c[k] for c in combos})
+        where = {v: i for i, v in enumerate(used)}
+        cut.append(Axis(a.field, tuple(a.texts[i] for i in used), np.asarray(a.values)[used], a.unit, a.log))
+        for j, c in enumerate(combos):
+            local[j].append(where[c[k]])
+    return cut, [tuple(c) for c in local], indices
+
+
 def grid_size(axes) -> int:
     """Number of grid points of the axes (their product)."""
     return int(np.prod([len(a.texts) for a in axes], dtype=float))
@@ -139,7 +159,11 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
     product = itertools.product(*[range(len(a.texts)) for a in axes])
     # chunks are made as they are needed: the grid is never held whole
     chunks = iter(lambda: list(itertools.islice(product, CHUNK_POINTS)), [])
-    args = (mission, axes, list(metric_texts))
+    metric_texts = list(metric_texts)
+
+    def task(ch):  # the arguments of chunk_rows for one chunk: the same on every path
+        cut, local, indices = _task(axes, ch)
+        return (mission, cut, metric_texts, local, tuple(perturb), samples, seed, indices)
     progress = Progress(total, quiet)
     rows = 0
 
@@ -162,32 +186,31 @@ def run_sweep(mission, axes, metric_texts, *, workers=1, scheduler=None, perturb
                 pending = iter(chunks)
                 limit = max(4, 2 * len(client.nthreads()))
                 for ch in itertools.islice(pending, limit):
-                    window.append(client.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed, pure=False))
+                    window.append(client.submit(chunk_rows, *task(ch), pure=False))
                 while window:
                     fut = window.pop(0)
                     emit(fut.result())
                     del fut
                     nxt = next(pending, None)
                     if nxt is not None:
-                        window.append(client.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed, pure=False))
+                        window.append(client.submit(chunk_rows, *task(nxt), pure=False))
         elif workers > 1:
             pool = ProcessPoolExecutor(workers, initializer=_worker_start)
             try:
                 # a bounded window of chunks in flight, in grid order
-                window = [pool.submit(chunk_rows, *args, ch, tuple(perturb), samples, seed)
-                          for ch in itertools.islice(chunks, 2 * workers)]
+                window = [pool.submit(chunk_rows, *task(ch)) for ch in itertools.islice(chunks, 2 * workers)]
                 while window:
                     emit(window.pop(0).result())
                     nxt = next(chunks, None)
                     if nxt is not None:
-                        window.append(pool.submit(chunk_rows, *args, nxt, tuple(perturb), samples, seed))
+                        window.append(pool.submit(chunk_rows, *task(nxt)))
             except BaseException:
                 _stop_pool(pool)  # an interruption or a failure: the workers stop now, not after their chunks
                 raise
             pool.shutdown()
         else:
             for ch in chunks:
-                emit(chunk_rows(*args, ch, tuple(perturb), samples, seed))
+                emit(chunk_rows(*task(ch)))
     finally:
         progress.close()
     return rows
