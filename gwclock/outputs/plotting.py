@@ -226,7 +226,9 @@ def save_figure(fig, path, dpi=200, metadata=None) -> Path:
         meta = {"Title": meta.get("Title", ""), "Creator": meta.get("Creator", "gwclock"),
                 "Description": meta.get("Subject", ""), "Date": None}
     import matplotlib as mpl
-    with atomic_path(p) as tmp, mpl.rc_context({"svg.hashsalt": "gwclock"}):
+    # TrueType fonts in PDFs (journals refuse Type 3) and text as paths in SVGs, for every figure
+    rc = {"svg.hashsalt": "gwclock", "pdf.fonttype": 42, "ps.fonttype": 42, "svg.fonttype": "path"}
+    with atomic_path(p) as tmp, mpl.rc_context(rc):
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
     return p
 
