@@ -439,7 +439,7 @@ class TestCompare:
         assert code == 0
         t = Table.read(tmp_path / "c.csv", format="ascii.csv", comment="#")
         np.testing.assert_array_equal(t["ratio_3"], t["ratio_2"])
-        assert not np.allclose(t["ratio_2"], 1.0)  # the default and the first shipped mission do differ
+        assert np.max(np.abs(np.asarray(t["ratio_2"]) - 1.0)) > 0.01  # the default and the first shipped mission differ
         assert r"\toprule" in (tmp_path / "c.tex").read_text()
 
     @pytest.mark.parametrize("argv, fragment", [
