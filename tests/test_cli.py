@@ -96,6 +96,7 @@ def test_species_and_cite_and_version(capsys):
     (["curve", "--table", "x" * 260 + ".ecsv"], "file name longer than 255 bytes"),
     (["curve", "--table", "/proc/t.ecsv"], "cannot write in the output folder"),
     (["track", "--mass1", "30", "--mass2", "30", "--redshift", "0.1", "--points", "0"], "--points: got 0"),
+    (["snr", "--frequency", "3 mHz", "--h0", "1e-22", "--table", "-"], "takes the table of curve and window only"),
     (["window"], "required: --tune"),
     (["window", "--tune", "200 Hz"], "outside the band"),
     (["bogus"], "invalid choice"),
@@ -452,3 +453,14 @@ class TestCompare:
         code, _, err = run(argv, capsys)
         assert code == 2 and fragment in err and err.count("\n") == 1
         assert list(tmp_path.iterdir()) == []
+
+
+def test_a_table_can_go_to_standard_output(capsys):
+    # "-" for standard output is the common convention of command-line tools (POSIX utility
+    # guidelines, from memory); the table is ECSV and the command's own lines move to stderr
+    code, out, err = run(["curve", "--points", 7, "--table", "-"], capsys)
+    assert code == 0
+    t = QTable.read(out, format="ascii.ecsv")
+    b = envelope(load_mission(None)[0].design(), np.geomspace(1e-5, 100, 7))
+    np.testing.assert_allclose(t["asd"].value, b.asd, rtol=1e-12, atol=0)
+    assert "best strain ASD" in err and "best strain ASD" not in out

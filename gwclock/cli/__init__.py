@@ -71,6 +71,7 @@ def main(argv=None) -> int:
     debug = "--debug" in argv
     argv = [a for a in argv if a != "--debug"]  # taken anywhere, before or after the command
     common.COMMAND_LINE[:] = ["gwclock", *argv]
+    common._TABLE_ON_STDOUT[0] = False
     STOP.clear()  # a new run
     _stop_politely_on_sigterm()
     try:

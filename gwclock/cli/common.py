@@ -17,6 +17,7 @@ from ..config.mission import mission_from_dict
 from ..engine.budget import SPAN, frequency_grid
 from ..errors import InputError
 from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
+from ..outputs.ecsv import write_ecsv
 from ..outputs.latex import LATEX_FORMATS, write_latex
 from ..outputs.plotting import save_figure
 from ..outputs.tables import write_table
@@ -25,8 +26,8 @@ from ..quantities import checked_frequency, parse_quantity
 from ..version import __version__
 
 __all__ = ["Parser", "mission_arg", "grid_args", "output_args", "frequency", "grid", "tuned", "quantity",
-           "number", "check_outputs", "warn", "check_reach", "latex_arg", "latex_provenance", "save_latex", "save_table", "save_plot", "DEFAULT_FMIN",
-           "DEFAULT_FMAX", "DEFAULT_POINTS"]
+           "number", "check_outputs", "warn", "check_reach", "latex_arg", "latex_provenance", "save_latex",
+           "save_table", "say", "STDOUT", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]
 
 DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = f"{SPAN[0]:g} Hz", f"{SPAN[1]:g} Hz", 400
 
@@ -136,7 +137,11 @@ def number(text, option, lo=0.0):
 
 def check_outputs(args) -> None:
     """Check a command's ``--table``, ``--plot`` and ``--latex`` paths before any work is done."""
-    if getattr(args, "table", None):
+    _TABLE_ON_STDOUT[0] = getattr(args, "table", None) == STDOUT
+    if _TABLE_ON_STDOUT[0] and not getattr(args, "table_stdout", False):
+        raise InputError("standard output ('-') takes the table of curve and window only; give a file name",
+                         source="command line", field="--table", value=STDOUT)
+    if getattr(args, "table", None) and args.table != STDOUT:
         check_output_path(args.table, TABLE_FORMATS)
     if getattr(args, "plot", None):
         check_output_path(args.plot, FIGURE_FORMATS)
@@ -161,12 +166,32 @@ def latex_provenance(mission, digest) -> dict:
 
 def save_latex(text, path):
     write_latex(text, path)
-    print(f"wrote LaTeX table {path}")
+    print(f"wrote LaTeX table {path}", file=_lines())
+
+
+#: ``--table -`` writes the table (ECSV) to standard output; the command's own lines go to stderr.
+STDOUT = "-"
+
+
+_TABLE_ON_STDOUT = [False]
+
+
+def _lines():
+    return sys.stderr if _TABLE_ON_STDOUT[0] else sys.stdout
+
+
+def say(args, text):
+    """A line for the user: on stdout, or on stderr when stdout carries the table (``--table -``)."""
+    print(text, file=sys.stderr if getattr(args, "table", None) == STDOUT or _TABLE_ON_STDOUT[0] else sys.stdout)
 
 
 def save_table(table, path):
+    if path == STDOUT:
+        write_ecsv(table, sys.stdout)
+        sys.stdout.flush()
+        return
     write_table(table, path)
-    print(f"wrote table {path}")
+    print(f"wrote table {path}", file=_lines())
 
 
 def save_plot(path, draw, title, size=(6.4, 4.4), metadata=None):
@@ -179,4 +204,4 @@ def save_plot(path, draw, title, size=(6.4, 4.4), metadata=None):
     if title:
         ax.set_title(title)
     save_figure(fig, path, metadata={"Title": title, "Creator": f"gwclock {__version__}", **(metadata or {})})
-    print(f"wrote figure {path}")
+    print(f"wrote figure {path}", file=_lines())

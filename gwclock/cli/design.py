@@ -28,6 +28,7 @@ from .common import (
     save_latex,
     save_plot,
     save_table,
+    say,
     tuned,
 )
 
@@ -84,7 +85,7 @@ def cmd_curve(args):
     design = mission.design()
     check_reach(design, f[0], "--fmin", args.fmin)
     budget = envelope(design, f) if design.tune is None else window(design, f)
-    print(summarise_budget(budget, mission.name))
+    say(args, summarise_budget(budget, mission.name))
     _write(budget, mission, digest, args)
     return 0
 
@@ -95,7 +96,7 @@ def cmd_window(args):
     mission, _ = tuned(mission, args.tune)
     check_outputs(args)
     budget = window(mission.design(), f)
-    print(summarise_budget(budget, mission.name))
+    say(args, summarise_budget(budget, mission.name))
     _write(budget, mission, digest, args)
     return 0
 
@@ -143,7 +144,7 @@ def cmd_compare(args):
         save_figure(art["asd"].figure, args.plot, metadata={
             "Title": "comparison of " + ", ".join(m.name for m in missions), "Creator": shlex.join(COMMAND_LINE),
             "Subject": "; ".join(f"[{i}] sha256 {d}" for i, (_, d) in enumerate(loaded, start=1))})
-        print(f"wrote figure {args.plot}")
+        say(args, f"wrote figure {args.plot}")
     if args.latex:
         names = [m.name for m in missions]
         rows = [(key, *[Raw(latex_number(v, 6) + (f"~{latex_unit(unit)}" if unit is not None else "")) for v in values])
@@ -182,13 +183,13 @@ def add_commands(sub):
     mission_arg(sp)
     grid_args(sp)
     _budget_latex_args(sp)
-    sp.set_defaults(func=cmd_curve)
+    sp.set_defaults(func=cmd_curve, table_stdout=True)
     sp = sub.add_parser("window", help="response at one fixed tuning")
     mission_arg(sp)
     sp.add_argument("--tune", required=True, help="tuning frequency, e.g. '0.1 Hz'")
     grid_args(sp)
     _budget_latex_args(sp)
-    sp.set_defaults(func=cmd_window)
+    sp.set_defaults(func=cmd_window, table_stdout=True)
     sp = sub.add_parser("compare", help="two or more missions: the fields that differ, their curves and ratio")
     sp.add_argument("missions", nargs="+", metavar="MISSION", help="mission files ('default': the built-in one)")
     grid_args(sp)
