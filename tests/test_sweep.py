@@ -396,3 +396,61 @@ def test_monte_carlo_seeds_come_from_the_place_in_the_whole_grid():
     point = m.clone(**{"clock.atom_number": axes[0].texts[i]})
     stats, _ = perturbed_metrics(point, [parse_metric("asd@0.1 Hz")], [("link.transmit_power", 0.3)], 4, 7 + i)
     assert float(last["asd@0.1Hz"][i - CHUNK_POINTS]) == stats["asd@0.1Hz"][0]
+
+
+class TestSweepFigures:
+    """What ``sweep --plot`` draws (through the artists, not pixels)."""
+
+    def test_a_band_metric_is_drawn_as_the_band_between_its_edges(self, tmp_path, capsys):
+        from matplotlib.collections import PolyCollection
+
+        from gwclock.outputs.plotting import draw_sweep
+        p = tmp_path / "b.ecsv"
+        assert run(["sweep", "--vary", "clock.atom_number=1e4:1e6:5:log", "--metric", "band@3e-18", "--table", p,
+                    "--quiet"], capsys)[0] == 0
+        t = QTable.read(p)
+        m, _ = load_mission(None)
+        axes = [parse_vary("clock.atom_number=1e4:1e6:5:log", m)]
+        fig, ax = draw_sweep(None, axes, parse_metric("band@3e-18"), t)
+        fills = [c for c in ax.collections if isinstance(c, PolyCollection)]
+        assert len(fills) == 1 and ax.get_yscale() == "log" and ax.get_xlabel() == "atom number"
+        edges = [np.asarray(line.get_ydata(), dtype=float) for line in ax.get_lines()]
+        np.testing.assert_array_equal(edges[0], np.asarray(t["band_low@3e-18"].value))
+        np.testing.assert_array_equal(edges[1], np.asarray(t["band_high@3e-18"].value))
+
+    def test_a_third_field_gives_one_panel_per_value(self, tmp_path, capsys):
+        out = tmp_path / "f.png"
+        code, _, _ = run(["sweep", "--vary", "clock.atom_number=1e4:1e6:3:log", "--vary", "link.baseline=1e10 m:3e10 m:2",
+                          "--vary", "clock.dead_time=0.5 s:1 s:2", "--metric", "asd@0.1 Hz", "--plot", out, "--quiet"],
+                         capsys)
+        assert code == 0 and out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+        from gwclock.outputs.plotting import draw_sweep
+        m, _ = load_mission(None)
+        axes = [parse_vary(v, m) for v in ("clock.atom_number=1e4:1e6:3:log", "link.baseline=1e10 m:3e10 m:2",
+                                           "clock.dead_time=0.5 s:1 s:2")]
+        rows = []
+        from gwclock.studies.executor import run_sweep
+        run_sweep(m, axes, ["asd@0.1 Hz"], sink=rows.append)
+        from astropy.table import vstack
+        fig, first = draw_sweep(None, axes, parse_metric("asd@0.1 Hz"), vstack(rows))
+        panels = [a for a in fig.axes if a.get_label() != "<colorbar>"]
+        assert len(panels) == 2 and panels[0].get_ylabel() == "baseline [$\\mathrm{m}$]"
+        assert [a.get_title() for a in panels] == ["dead time = 0.5 $\\mathrm{s}$", "dead time = 1 $\\mathrm{s}$"]
+
+    @pytest.mark.parametrize("extra, fragment", [
+        (["--vary", "clock.dead_time=0.5 s:1 s:2", "--vary", "clock.squeezing_db=0:3:2"], "at most three"),
+        (["--vary", "clock.dead_time=0.5 s:1 s:7"], "at most 6 values"),
+        (["--plot-metric", "asd@1Hz"], "--plot-metric: got 'asd@1Hz'; not a column of this sweep"),
+    ])
+    def test_what_cannot_be_drawn_is_refused_before_the_work(self, tmp_path, monkeypatch, capsys, extra, fragment):
+        monkeypatch.chdir(tmp_path)
+        argv = ["sweep", "--vary", "clock.atom_number=1e4:1e6:3:log", "--vary", "link.baseline=1e10 m:3e10 m:2",
+                "--metric", "asd@0.1 Hz", "--table", "t.ecsv", "--plot", "f.png", *extra]
+        code, _, err = run(argv, capsys)
+        assert code == 2 and fragment in err and err.count("\n") == 1
+        assert list(tmp_path.iterdir()) == []
+
+    def test_axis_labels_carry_typeset_units(self):
+        from gwclock.outputs.plotting import axis_label, unit_text
+        assert axis_label("link.transmit_power", "W") == "transmit power [$\\mathrm{W}$]"
+        assert unit_text("Hz(-1/2)") == "$\\mathrm{Hz^{-1/2}}$"

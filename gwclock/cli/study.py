@@ -10,7 +10,7 @@ from astropy.table import Table, vstack
 from ..config.mission import load_mission
 from ..engine import window_psd
 from ..errors import InputError
-from ..outputs.plotting import draw_scan, draw_sweep
+from ..outputs.plotting import MAX_FACETS, draw_scan, draw_sweep
 from ..outputs.stream import TableStream
 from ..outputs.tables import Column, provenance
 from ..quantities import parse_quantity
@@ -61,13 +61,42 @@ def cmd_sweep(args):
     perturb = [parse_perturb(p, mission, CLI, "--perturb") for p in (args.perturb or [])]
     _workers(args)
     check_outputs(args)
+    drawn = _plot_choice(args, axes, metrics)  # refused now, before the work, not after the table
     table = _collect_and_write(args, mission, digest, axes, [m.text for m in metrics], perturb)
     if table is not None and not args.table:
         table.pprint(max_lines=40, max_width=160)
     if args.plot and table is not None:
-        save_plot(args.plot, lambda ax: draw_sweep(ax, axes, metrics[0], table), f"{mission.name}: {metrics[0].columns[0]}",
-                  size=(6.4, 4.6), metadata={"Title": f"{mission.name} sweep"})
+        metric, column = drawn
+        shown = column or (f"band@{metric.arg:g}" if metric.kind == "band" and len(axes) == 1 else metric.columns[0])
+        title = f"{mission.name}: {shown}"
+        facets = len(axes) == 3  # panels replace the one axes: the title goes over all of them
+        save_plot(args.plot, lambda ax: draw_sweep(ax, axes, metric, table, title if facets else None, column),
+                  None if facets else title, size=(9.0, 4.2) if facets else (6.4, 4.6),
+                  metadata={"Title": f"{mission.name} sweep"})
     return 0
+
+
+def _plot_choice(args, axes, metrics):
+    """(metric, column or None) that ``--plot`` draws: ``--plot-metric`` names a column of the table
+    (or a metric as given); by default the first metric. Refuses what cannot be drawn."""
+    if not args.plot:
+        return None
+    if len(axes) > 3:
+        raise InputError("--plot draws one, two or three varied fields (a third as panels); give at most three "
+                         "--vary, or leave out --plot", source="command line", field="--plot")
+    if len(axes) == 3 and len(axes[2].values) > MAX_FACETS:
+        raise InputError(f"a third varied field is drawn as one panel per value: at most {MAX_FACETS} values",
+                         source="command line", field="--vary", value=axes[2].field)
+    if not args.plot_metric:
+        return metrics[0], None
+    for m in metrics:
+        if args.plot_metric == m.text:
+            return m, None
+        if args.plot_metric in m.columns:
+            return m, args.plot_metric
+    names = [c for m in metrics for c in m.columns]
+    raise InputError(f"not a column of this sweep; expected one of {', '.join(names)}", source="command line",
+                     field="--plot-metric", value=args.plot_metric)
 
 
 def _workers(args):
@@ -161,6 +190,7 @@ def add_commands(sub):
     sp.add_argument("--metric", action="append", required=True,
                     help="asd@FREQ, band@LEVEL, snr:SOURCE_FILE[:SCHEDULE], horizon:MASS, power_needed@FREQ")
     sp.add_argument("--perturb", action="append", help="FIELD=REL_SIGMA: Monte-Carlo band (repeatable)")
+    sp.add_argument("--plot-metric", help="the column --plot draws (default: the first metric; band@ as a band)")
     sp.add_argument("--samples", type=int, default=200, help="Monte-Carlo samples per point (default 200)")
     sp.add_argument("--seed", type=int, default=12345, help="random seed (default 12345)")
     output_args(sp)

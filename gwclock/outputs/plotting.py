@@ -12,7 +12,8 @@ import numpy as np
 from ..files import FIGURE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
 
-__all__ = ["merged_noises", "plot_budget", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep", "save_figure", "noise_styles", "SERIES_STYLES"]
+__all__ = ["merged_noises", "plot_budget", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep",
+           "axis_label", "unit_text", "MAX_FACETS", "save_figure", "noise_styles", "SERIES_STYLES"]
 
 def noise_styles() -> dict[str, dict]:
     """Line style of each noise of the registry (colour-blind-safe hues, distinct dashes)."""
@@ -258,23 +259,59 @@ def draw_scan(ax, f, tunings, S, env):
     return {"windows": lines, "envelope": e}
 
 
-def draw_sweep(ax, axes, metric, table, title=None):
-    """A sweep's first metric against one varied field (a line) or two (a map with contours)."""
-    col = metric.columns[0]
+def axis_label(field, unit=""):
+    """``link.baseline`` with ``m`` as "baseline [m]" (units typeset, e.g. Hz$^{-1/2}$)."""
+    name = field.split(".")[-1].replace("_", " ")
+    return f"{name} [{unit_text(unit)}]" if unit else name
+
+
+def unit_text(unit) -> str:
+    """A unit for an axis label, in matplotlib's mathtext (``Hz(-1/2)`` as Hz$^{-1/2}$)."""
+    import astropy.units as u
+    try:
+        return u.Unit(unit).to_string("latex_inline")
+    except ValueError:
+        return str(unit)
+
+
+#: Most panels a third varied field may give a sweep figure (one per value).
+MAX_FACETS = 6
+
+
+def draw_sweep(ax, axes, metric, table, title=None, column=None):
+    """A sweep's metric against one varied field (a line; a band metric as a shaded band) or two (a
+    map with contours); a third varied field gives one panel per value (at most MAX_FACETS).
+
+    ``column`` is the table column drawn (default the metric's first; for ``band@`` in one
+    dimension both edges, as a band)."""
+    col = column or metric.columns[0]
+    if len(axes) == 3:
+        return _facets(ax, axes, metric, table, title, col)
     fig, ax = _new_axes(ax)
+    unit = metric.units[metric.columns.index(col)] if col in metric.columns else ""
     y = np.asarray(table[col], dtype=float)
-    label = f"{col}" + (f" [{metric.units[0]}]" if metric.units[0] else "")
+    label = axis_label(col, unit) if col.split("@")[0] in ("band_low", "band_high") else \
+        f"{col}" + (f" [{unit_text(unit)}]" if unit else "")
     if len(axes) == 1:
         a = axes[0]
         x = np.asarray(table[a.field], dtype=float)
-        ax.plot(x, y, marker="o", ms=3, **SERIES_STYLES[0])
-        if f"{col}_p05" in table.colnames:
-            ax.fill_between(x, table[f"{col}_p05"], table[f"{col}_p95"], color="0.7", alpha=0.5, label="5-95 %")
-            ax.legend(frameon=False)
-        ax.set_xscale("log" if a.log else "linear")
-        if np.all(y[np.isfinite(y)] > 0):
+        if metric.kind == "band" and column is None:
+            lo, hi = (np.asarray(table[c], dtype=float) for c in metric.columns)
+            ax.fill_between(x, lo, hi, color="#56B4E9", alpha=0.45, lw=0, label=f"ASD < {metric.arg:g} Hz$^{{-1/2}}$")
+            ax.plot(x, lo, color="#0072B2", lw=1.2)
+            ax.plot(x, hi, color="#0072B2", lw=1.2)
             ax.set_yscale("log")
-        ax.set_xlabel(f"{a.field}" + (f" [{a.unit}]" if a.unit else ""))
+            ax.legend(frameon=False)
+            label = "frequency band [Hz]"
+        else:
+            ax.plot(x, y, marker="o", ms=3, **SERIES_STYLES[0])
+            if f"{col}_p05" in table.colnames:
+                ax.fill_between(x, table[f"{col}_p05"], table[f"{col}_p95"], color="0.7", alpha=0.5, label="5-95 %")
+                ax.legend(frameon=False)
+            if np.all(y[np.isfinite(y)] > 0):
+                ax.set_yscale("log")
+        ax.set_xscale("log" if a.log else "linear")
+        ax.set_xlabel(axis_label(a.field, a.unit))
         ax.set_ylabel(label)
         ax.grid(True, alpha=0.3)
     else:
@@ -287,11 +324,45 @@ def draw_sweep(ax, axes, metric, table, title=None):
         cb.set_label(("log10 " if logz else "") + label)
         if np.isfinite(Zp).sum() > 3 and len(a.values) > 1 and len(b.values) > 1:
             cs = ax.contour(a.values, b.values, Zp, colors="white", linewidths=0.8, linestyles="solid")
-            ax.clabel(cs, fontsize="x-small", fmt="%.3g")
+            ax.clabel(cs, fontsize="x-small", fmt="%.3g", inline=True, inline_spacing=4)
         ax.set_xscale("log" if a.log else "linear")
         ax.set_yscale("log" if b.log else "linear")
-        ax.set_xlabel(f"{a.field}" + (f" [{a.unit}]" if a.unit else ""))
-        ax.set_ylabel(f"{b.field}" + (f" [{b.unit}]" if b.unit else ""))
+        ax.set_xlabel(axis_label(a.field, a.unit))
+        ax.set_ylabel(axis_label(b.field, b.unit))
     if title:
         ax.set_title(title)
     return fig, ax
+
+
+def _facets(ax, axes, metric, table, title, col):
+    """One panel per value of the third varied field, sharing the colour scale of the metric."""
+    from matplotlib.figure import Figure
+
+    a, b, c = axes
+    if len(c.values) > MAX_FACETS:
+        raise ValueError(f"a third varied field gives one panel per value: at most {MAX_FACETS} values")
+    fig = ax.figure if ax is not None else Figure(figsize=(6.4, 4.6), layout="constrained")
+    if ax is not None:
+        ax.remove()
+    panels = fig.subplots(1, len(c.values), sharey=True, squeeze=False)[0]
+    y = np.asarray(table[col], dtype=float).reshape(len(a.values), len(b.values), len(c.values))
+    finite = y[np.isfinite(y)]
+    logz = finite.size > 0 and np.all(finite > 0)
+    Y = np.log10(y) if logz else y
+    lo, hi = (np.nanmin(Y), np.nanmax(Y)) if np.isfinite(Y).any() else (0.0, 1.0)
+    mesh = None
+    for k, p in enumerate(panels):
+        mesh = p.pcolormesh(a.values, b.values, Y[:, :, k].T, shading="nearest", cmap="cividis", vmin=lo, vmax=hi)
+        p.set_xscale("log" if a.log else "linear")
+        p.set_yscale("log" if b.log else "linear")
+        p.set_title(f"{axis_label(c.field)} = {c.values[k]:.3g}" + (f" {unit_text(c.unit)}" if c.unit else ""),
+                    fontsize="small")
+        p.set_xlabel(axis_label(a.field, a.unit))
+    panels[0].set_ylabel(axis_label(b.field, b.unit))
+    unit = metric.units[metric.columns.index(col)] if col in metric.columns else ""
+    cb = fig.colorbar(mesh, ax=list(panels))
+    cb.set_label(("log10 " if logz else "") + col + (f" [{unit_text(unit)}]" if unit else ""))
+    if title:
+        fig.suptitle(title)
+    return fig, panels[0]
+
