@@ -454,3 +454,16 @@ class TestSweepFigures:
         from gwclock.outputs.plotting import axis_label, unit_text
         assert axis_label("link.transmit_power", "W") == "transmit power [$\\mathrm{W}$]"
         assert unit_text("Hz(-1/2)") == "$\\mathrm{Hz^{-1/2}}$"
+
+
+def test_a_scan_colours_each_window_by_its_tuning_on_a_colour_bar():
+    # the colour of a window is its tuning on a log colour scale (read back through the colour bar)
+    from gwclock.outputs.plotting import draw_scan
+    f = np.geomspace(1e-3, 10, 50)
+    tunings = np.array([0.01, 0.1, 1.0])
+    S = np.array([1e-36 * (1 + (f / t) ** 2) for t in tunings])
+    art = draw_scan(None, f, tunings, S, S.min(axis=0))
+    cb = art["colourbar"]
+    assert cb is not None and cb.norm.vmin == pytest.approx(0.01, rel=1e-12, abs=0)
+    for t, line in zip(tunings, art["windows"]):
+        assert line.get_color() == cb.cmap(cb.norm(t))

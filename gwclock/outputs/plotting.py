@@ -240,13 +240,22 @@ def draw_scan(ax, f, tunings, S, env):
     ``ax`` may be None (a new figure is made)."""
     import matplotlib as mpl
 
-    _, ax = _new_axes(ax)
+    fig, ax = _new_axes(ax)
     cmap = mpl.colormaps["viridis"]
+    tunings = np.asarray(tunings, dtype=float)
+    # the colour says the tuning: a logarithmic scale of tuning frequency, shown by a colour bar
+    norm = mpl.colors.LogNorm(vmin=tunings.min(), vmax=tunings.max() * (1 + 1e-12)) if tunings.min() > 0 else None
     lines = []
     for k in range(len(tunings)):
-        (ln,) = ax.plot(f, np.sqrt(S[k]), color=cmap(k / max(len(tunings) - 1, 1)), lw=0.9, alpha=0.85)
+        colour = cmap(norm(tunings[k])) if norm is not None else cmap(k / max(len(tunings) - 1, 1))
+        (ln,) = ax.plot(f, np.sqrt(S[k]), color=colour, lw=0.9, alpha=0.85)
         lines.append(ln)
+        ax.axvline(tunings[k], color=colour, lw=0.5, linestyle=":", alpha=0.8)
     (e,) = ax.plot(f, np.sqrt(env), color="black", lw=2.0, label="envelope of the scan")
+    colourbar = None
+    if norm is not None:
+        colourbar = fig.colorbar(mpl.cm.ScalarMappable(norm=norm, cmap=cmap), ax=ax)
+        colourbar.set_label("tuning frequency [Hz] (dotted: each tuning)")
     ax.set_xscale("log")
     ax.set_yscale("log")
     good = np.sqrt(env)
@@ -256,7 +265,7 @@ def draw_scan(ax, f, tunings, S, env):
     ax.grid(True, alpha=0.3)
     lines[0].set_label(f"fixed tunings {tunings[0]:.3g} Hz to {tunings[-1]:.3g} Hz")
     ax.legend(loc="best", fontsize="small", framealpha=0.85)
-    return {"windows": lines, "envelope": e}
+    return {"windows": lines, "envelope": e, "colourbar": colourbar}
 
 
 def axis_label(field, unit=""):
