@@ -51,8 +51,14 @@ def test_default_mission_csv_and_svg(tmp_path, capsys):
     code, _, _ = run(["curve", "--table", tmp_path / "t.csv", "--plot", tmp_path / "f.svg", "--points", 20,
                       "--fmin", "1 mHz", "--fmax", "1 Hz"], capsys)
     assert code == 0
-    t = Table.read(tmp_path / "t.csv", format="ascii.csv", comment="#")
-    assert len(t) == 20 and t["frequency"][0] == pytest.approx(1e-3, rel=1e-12, abs=0)
+    t = Table.read(tmp_path / "t.csv")  # plain CSV: any reader opens it without options
+    assert len(t) == 20 and t["frequency [Hz]"][0] == pytest.approx(1e-3, rel=1e-12, abs=0)
+    import csv
+    with open(tmp_path / "t.csv", newline="") as fh:
+        rows = list(csv.reader(fh))  # the standard library's reader (RFC 4180, Shafranovich 2005)
+    assert rows[0][:2] == ["frequency [Hz]", "asd [1 / Hz(1/2)]"] and len(rows) == 21
+    b = envelope(load_mission(None)[0].design(), np.geomspace(1e-3, 1, 20))
+    np.testing.assert_allclose([float(r[1]) for r in rows[1:]], b.asd, rtol=1e-9, atol=0)  # 10 digits printed
     assert (tmp_path / "f.svg").read_text().lstrip().startswith("<?xml")
 
 
@@ -158,6 +164,18 @@ def test_tables_are_deterministic_apart_from_the_timestamp(tmp_path, capsys):
         assert run(["curve", "--points", 40, "--table", tmp_path / name], capsys)[0] == 0
     strip = lambda p: [l for l in p.read_text().splitlines() if "created" not in l]  # noqa: E731
     assert strip(tmp_path / "a.ecsv") == strip(tmp_path / "b.ecsv")
+
+
+def test_an_exported_reference_csv_reads_back_as_the_same_curve(tmp_path, capsys):
+    # the convention and sky factor travel as constant columns; the units in the column names
+    from gwclock.astro.references import get_reference, user_curve
+    p = tmp_path / "aligo.csv"
+    code, _, _ = run(["reference", "aligo", "--points", 30, "--table", p], capsys)
+    assert code == 0
+    back, ref = user_curve(p), get_reference("aligo")
+    f = np.asarray(Table.read(p)["frequency [Hz]"], dtype=float)[1:-1]  # at the tabulated points (log-log exact)
+    np.testing.assert_allclose(back.sky_averaged(f), ref.sky_averaged(f), rtol=1e-8, atol=0)
+    assert back.convention == ref.convention
 
 
 def test_reference_export_in_both_conventions(tmp_path, capsys):
@@ -438,7 +456,7 @@ class TestCompare:
         code, out, _ = run(["compare", "default", MISSIONS[0], MISSIONS[0], "--points", 20, "--table",
                             tmp_path / "c.csv", "--latex", tmp_path / "c.tex"], capsys)
         assert code == 0
-        t = Table.read(tmp_path / "c.csv", format="ascii.csv", comment="#")
+        t = Table.read(tmp_path / "c.csv")
         np.testing.assert_array_equal(t["ratio_3"], t["ratio_2"])
         assert np.max(np.abs(np.asarray(t["ratio_2"]) - 1.0)) > 0.01  # the default and the first shipped mission differ
         assert r"\toprule" in (tmp_path / "c.tex").read_text()

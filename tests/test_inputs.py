@@ -316,3 +316,15 @@ class TestErrorHierarchy:
                 clock_snr(TunedCurve(d, 1e-3, 1.0, 50), Monochromatic("m", 0.01, 1e-21), "sometimes")
         assert isinstance(err.value, KeyError) and isinstance(err.value, InputError)
         assert str(err.value).startswith("unknown ") and not str(err.value).startswith("'")
+
+
+def test_a_plain_csv_curve_with_units_in_brackets_and_a_convention_column(tmp_path):
+    # 1e-20 mHz^-1/2 = 1e-20 / sqrt(1e-3) Hz^-1/2 (unit conversion, astropy units)
+    p = tmp_path / "c.csv"
+    p.write_text("frequency [mHz],asd [mHz(-1/2)],convention\n1000,1e-20,sky-averaged\n10000,1e-21,sky-averaged\n")
+    r = user_curve(p)
+    assert r.band == pytest.approx((1.0, 10.0), rel=1e-12, abs=0) and r.convention == "sky-averaged"
+    assert r.sky_averaged(1.0) == pytest.approx((1e-20 / np.sqrt(1e-3)) ** 2, rel=1e-12, abs=0)
+    p.write_text("frequency [Hz],asd,convention\n1,1e-20,sky-averaged\n10,1e-21,optimal orientation\n")
+    with pytest.raises(InputError, match="convention: expected one value in every row"):
+        user_curve(p)

@@ -10,6 +10,7 @@ cited parameter of each curve.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
@@ -270,6 +271,21 @@ def user_curve(path, convention=None, sky_factor=None, label=None) -> Reference:
         key, sep, value = str(line).partition(":")
         if sep:
             t.meta.setdefault(key.strip(), value.strip())
+    for c in list(t.colnames):  # plain CSV: "frequency [Hz]", the unit in the name
+        m = re.fullmatch(r"\s*(\w+)\s*\[(.+)\]\s*", c)
+        if m and m.group(1) not in t.colnames:
+            t.rename_column(c, m.group(1))
+            try:
+                t[m.group(1)].unit = u.Unit(m.group(2))
+            except ValueError:
+                raise InputError("expected a unit in the brackets of the column name", source=str(p),
+                                 field=c) from None
+    for key in ("convention", "sky_factor"):  # plain CSV: declared in a constant column
+        if key in t.colnames:
+            values = {str(v) for v in t[key]}
+            if len(values) != 1:
+                raise InputError("expected one value in every row", source=str(p), field=key)
+            t.meta.setdefault(key, values.pop())
     if "frequency" not in t.colnames:
         raise InputError("missing column 'frequency'", source=str(p), field="frequency")
     if "asd" in t.colnames:

@@ -15,7 +15,7 @@ from ..physics.noises import NOISES
 from ..version import __version__
 from .ecsv import supported, write_ecsv
 
-__all__ = ["budget_table", "reference_table", "track_table", "snr_table", "provenance", "write_table", "Column",
+__all__ = ["csv_table", "budget_table", "reference_table", "track_table", "snr_table", "provenance", "write_table", "Column",
            "ENVELOPE_NOTE", "CONVENTION"]
 
 ENVELOPE_NOTE = ("tuned envelope: every frequency uses its own best tuning of the pulse sequence; "
@@ -126,29 +126,46 @@ def provenance(mission_name: str, digest: str) -> dict:
     }
 
 
+def csv_table(table) -> Table:
+    """The plain-CSV form of a table: one header row whose names carry their units in brackets
+    (``frequency [Hz]``), no comment lines, so that any CSV reader opens it without options. A
+    curve that declares its convention (a reference export) carries it, and its sky factor, as
+    constant columns, so that gwclock reads it back as a user curve; the rest of the metadata
+    (provenance) is ECSV's to carry."""
+    out = Table(table, copy=True)
+    out.meta = {}
+    for c in list(out.colnames):
+        unit = out[c].unit
+        if out[c].dtype.kind == "f":
+            out[c].info.format = ".10g"
+        if unit is not None and unit.to_string():
+            out[c].unit = None
+            out.rename_column(c, f"{c} [{unit.to_string()}]")
+    if table.meta.get("convention") in ("sky-averaged", "optimal orientation") and \
+            ({"asd", "psd"} & set(table.colnames)):
+        out["convention"] = [table.meta["convention"]] * len(out)
+        if "sky_factor" in table.meta:
+            out["sky_factor"] = [float(table.meta["sky_factor"])] * len(out)
+    return out
+
+
 def write_table(table, path) -> Path:
-    """Write ``table`` atomically, as ECSV or (by suffix) CSV with units in comment lines."""
+    """Write ``table`` atomically, as ECSV (units and provenance in its header) or, by suffix, as
+    plain CSV (:func:`csv_table`)."""
     p = check_output_path(path, TABLE_FORMATS)
     fmt = TABLE_FORMATS[p.suffix.lower()]
     out = table
     if fmt == "ascii.csv":
-        out = Table(table, copy=True)
-        comments = [f"{k}: {v}" for k, v in table.meta.items()]
-        comments += [f"column {c}: unit {out[c].unit or '1'}" for c in out.colnames]
-        for c in out.colnames:
-            if out[c].dtype.kind == "f":
-                out[c].info.format = ".10g"
-        out.meta = {"comments": comments}
+        out = csv_table(table)
     else:
         out = table.copy(copy_data=False)
         for c in out.colnames:
             if out[c].dtype.kind == "f":
                 out[c].info.format = ".10g"
-    kwargs = {"comment": "# "} if fmt == "ascii.csv" else {}
     with atomic_path(p) as tmp:
         if fmt == "ascii.ecsv" and supported(out):
             with open(tmp, "w") as fh:
                 write_ecsv(out, fh)
         else:
-            out.write(tmp, format=fmt, overwrite=True, **kwargs)
+            out.write(tmp, format=fmt, overwrite=True)
     return p
