@@ -310,3 +310,22 @@ def test_ramsey_rising_noise_inside_the_main_lobe(alpha):
     got = float(SEQUENCES["ramsey"].aliased(d, [term], 0.1, 0.0, T, Tc))
     quad = integrate.quad(lambda f: term.level * f**alpha * np.sin(np.pi * f * T) ** 2 / (np.pi * f) ** 2, 0, cutoff)[0]
     assert got == pytest.approx(2 * Tc * quad, rel=1e-9, abs=0)
+
+
+def test_the_coefficient_cache_returns_exactly_a_fresh_computation():
+    # the cache only skips recomputation: the same tuning array, power law and band give the same
+    # numbers; another band or another tuning array is computed afresh
+    from gwclock.physics import filters
+    f0 = np.geomspace(1e-3, 10, 40)
+    fresh = filters.periodic_noise_coefficients(0, f0, 5.0, 0.0)
+    with filters.coefficient_cache():
+        first = filters.periodic_noise_coefficients(0, f0, 5.0, 0.0)
+        again = filters.periodic_noise_coefficients(0, f0, np.float64(5.0), 0.0)
+        other = filters.periodic_noise_coefficients(0, f0, 50.0, 0.0)
+        copy = filters.periodic_noise_coefficients(0, f0.copy() * 2, 5.0, 0.0)
+    assert again is first  # remembered
+    for a, b in zip(first, fresh):
+        np.testing.assert_array_equal(a, b)
+    direct = filters.periodic_noise_coefficients(0, f0, 50.0, 0.0)
+    np.testing.assert_array_equal(other[0], direct[0])
+    np.testing.assert_array_equal(copy[0], filters.periodic_noise_coefficients(0, f0 * 2, 5.0, 0.0)[0])

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..physics import noises, projection, response
+from ..physics import filters, noises, projection, response
 from ..physics.design import Design
 from .budget import hertz
 
@@ -45,6 +45,11 @@ def evaluate(design: Design, kind, f0, n, T, linear=None):
     ``correlated`` and ``cycle``.
     """
     f0, n, T = (np.asarray(v, dtype=float) for v in (f0, n, T))
+    with filters.coefficient_cache():  # the noises share power-law terms: their harmonic sums once
+        return _evaluate(design, kind, f0, n, T, linear)
+
+
+def _evaluate(design, kind, f0, n, T, linear):
     shape = np.broadcast(f0, n, T).shape
     n, T = np.broadcast_to(n, shape), np.broadcast_to(T, shape)
     Tc = T + design.dead_time

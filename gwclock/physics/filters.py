@@ -334,7 +334,7 @@ def _partial_odd_direct(s, count):
     series = qs ** (1 - s) / (s - 1) + 0.5 * qs ** (-s) + s * qs ** (-s - 1) / 12
     small = ~big & finite
     hz = np.zeros(c.shape)
-    if np.any(small):
+    if small.any():
         hz[small] = special.zeta(s, c[small])
     tail = np.where(finite, 2.0 ** (-s) * np.where(big, series, hz), 0.0)
     return np.where(count > 0, full - tail, 0.0)
@@ -353,7 +353,7 @@ def _partial_odd(s, count):
     index = np.where(inside, flat, 0.0).astype(np.intp)
     out = _partial_odd_table(s)[index]
     rest = ~(inside & (index == flat))
-    if np.any(rest):
+    if rest.any():
         out[rest] = _partial_odd_direct(s, flat[rest])
     return out.reshape(count.shape)
 
@@ -366,7 +366,7 @@ def odd_harmonic_sum(s, count=np.inf, first=0):
     """
     first = np.asarray(first, dtype=float)
     count = np.asarray(count, dtype=float)
-    if s > 1 and not np.any(first) and not np.any(np.isfinite(count)):
+    if s > 1 and not first.any() and not np.isfinite(count).any():
         return np.full(np.broadcast(first, count).shape, (1 - 2.0 ** (-s)) * special.zeta(s))
     count = np.maximum(count, first)
     hi = _partial_odd(s, count)
@@ -430,14 +430,52 @@ def periodic_noise_integral(alpha, T, f0, cutoff=np.inf, low=0.0):
     return slope * np.asarray(T, dtype=float) + edge
 
 
+class coefficient_cache:
+    """Within this context, :func:`periodic_noise_coefficients` remembers its results for the same
+    tuning array (the same object) and the same power law and band: the noises of one budget share
+    many terms (the master and the receiving laser, the common-mode phase), and each would
+    otherwise recompute the same harmonic sums. The results are exactly those of a fresh call."""
+
+    _active: dict | None = None
+
+    def __enter__(self):
+        self._outer = coefficient_cache._active
+        if self._outer is None:
+            coefficient_cache._active = {}
+        return self
+
+    def __exit__(self, *exc):
+        if self._outer is None:
+            coefficient_cache._active = None
+        return False
+
+
+def _band_key(x):
+    x = np.asarray(x, dtype=float)
+    return float(x) if x.ndim == 0 else (x.shape, x.tobytes())
+
+
 def periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
     """(slope, edge) with ``integral f^alpha |G|^2 df = slope * T + edge`` (see
     :func:`periodic_noise_integral`): the odd-harmonic lobes scale with T, the pi/2-pulse plateau
     does not."""
+    cache = coefficient_cache._active
+    if cache is None or not isinstance(f0, np.ndarray):
+        return _periodic_noise_coefficients(alpha, f0, cutoff, low)
+    key = (alpha, id(f0), _band_key(cutoff), _band_key(low))
+    hit = cache.get(key)
+    if hit is not None and hit[0] is f0:
+        return hit[1]
+    out = _periodic_noise_coefficients(alpha, f0, cutoff, low)
+    cache[key] = (f0, out)  # the tuning array is kept alive, so that its id is not reused
+    return out
+
+
+def _periodic_noise_coefficients(alpha, f0, cutoff=np.inf, low=0.0):
     f0 = np.asarray(f0, dtype=float)
     cutoff = np.asarray(cutoff, dtype=float)
     low = np.asarray(low, dtype=float)
-    if alpha >= 1 and not np.all(np.isfinite(cutoff)):
+    if alpha >= 1 and not np.isfinite(cutoff).all():
         raise ValueError("a rising noise needs a finite cutoff")
     s = 2 - alpha  # lobe k carries 4 T / (pi^2 k^2) of |G|^2 and k^alpha f0^alpha of the noise
     scale = (4 / np.pi**2) * f0**alpha
