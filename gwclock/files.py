@@ -29,6 +29,10 @@ MAX_INPUT_BYTES = 16 * 2**20
 
 _INPUTS: set[Path] = set()
 
+#: The command line of this run as the user could type it again (``["gwclock", "curve", ...]``),
+#: set by the command line; outputs record it beside the mission they used. Empty in library use.
+COMMAND: list[str] = []
+
 #: Set when the user asked the run to stop (SIGTERM): a stop raised at an unlucky moment (inside a
 #: finaliser, where Python only prints it) is raised again at the next safe point, and no output is
 #: renamed into place after it.

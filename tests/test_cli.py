@@ -159,11 +159,15 @@ def test_console_script_runs_as_a_process(tmp_path):
     assert bad.returncode == 2 and bad.stderr.startswith("gwclock: error: missing.toml")
 
 
-def test_tables_are_deterministic_apart_from_the_timestamp(tmp_path, capsys):
-    for name in ("a.ecsv", "b.ecsv"):
-        assert run(["curve", "--points", 40, "--table", tmp_path / name], capsys)[0] == 0
+def test_tables_are_deterministic_apart_from_the_timestamp(tmp_path, monkeypatch, capsys):
+    for run_dir in ("a", "b"):  # the same command line in two folders
+        (tmp_path / run_dir).mkdir()
+        monkeypatch.chdir(tmp_path / run_dir)
+        assert run(["curve", "--points", 40, "--table", "t.ecsv"], capsys)[0] == 0
     strip = lambda p: [l for l in p.read_text().splitlines() if "created" not in l]  # noqa: E731
-    assert strip(tmp_path / "a.ecsv") == strip(tmp_path / "b.ecsv")
+    a, b = strip(tmp_path / "a" / "t.ecsv"), strip(tmp_path / "b" / "t.ecsv")
+    assert a == b and any('"command": "gwclock curve --points 40 --table t.ecsv"' in line for line in a)
+    assert any("resolved_mission" in line and "link.baseline = 3e+10 m" in line for line in a)
 
 
 def test_an_exported_reference_csv_reads_back_as_the_same_curve(tmp_path, capsys):

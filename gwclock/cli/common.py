@@ -16,7 +16,7 @@ import numpy as np
 from ..config.mission import mission_from_dict
 from ..engine.budget import SPAN, frequency_grid
 from ..errors import InputError
-from ..files import FIGURE_FORMATS, TABLE_FORMATS, check_output_path
+from ..files import COMMAND, FIGURE_FORMATS, TABLE_FORMATS, check_output_path
 from ..outputs.ecsv import write_ecsv
 from ..outputs.latex import LATEX_FORMATS, write_latex
 from ..outputs.plotting import save_figure
@@ -150,7 +150,7 @@ def check_outputs(args) -> None:
 
 
 #: The command line of this run, as the user could type it again (set by :func:`gwclock.cli.main`).
-COMMAND_LINE = ["gwclock"]
+COMMAND_LINE = COMMAND
 
 
 def latex_arg(sp, what):

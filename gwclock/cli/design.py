@@ -37,7 +37,7 @@ __all__ = ["add_commands"]
 
 def _write(budget, mission, digest, args):
     if args.table:
-        save_table(budget_table(budget, mission.name, digest), args.table)
+        save_table(budget_table(budget, mission.name, digest, mission), args.table)
     if args.latex:
         design = budget.design
         at = budget_frequencies(args, budget.frequency)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import datetime as _dt
+import shlex
 from pathlib import Path
 
 import numpy as np
@@ -10,10 +11,11 @@ from astropy.table import Column as _Column
 from astropy.table import Table
 
 from ..constants import MSUN
-from ..files import TABLE_FORMATS, atomic_path, check_output_path
+from ..files import COMMAND, TABLE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
 from ..version import __version__
 from .ecsv import supported, write_ecsv
+from .summary import mission_rows
 
 __all__ = ["csv_table", "budget_table", "reference_table", "track_table", "snr_table", "provenance", "write_table", "Column",
            "ENVELOPE_NOTE", "CONVENTION"]
@@ -29,13 +31,12 @@ def Column(data, unit=None):
     return _Column(data, unit=unit)
 
 
-def budget_table(budget, mission_name: str, digest: str):
-    """The noise budget as an :class:`astropy.table.Table` with units and provenance.
+def budget_table(budget, mission_name: str, digest: str, mission=None):
+    """The noise budget as an :class:`astropy.table.Table` with units and provenance (with
+    ``mission``, also every resolved parameter of it, as ``resolved_mission`` lines).
 
     Read it back with ``QTable.read(path)`` to get Quantity columns.
     """
-
-
     t = Table()
     t["frequency"] = Column(budget.frequency, unit="Hz")
     t["asd"] = Column(budget.asd, unit="Hz(-1/2)")
@@ -68,6 +69,9 @@ def budget_table(budget, mission_name: str, digest: str):
     else:
         t.meta["note"] = f"fixed tuning at {float(budget.tuning[0]):.6g} Hz"
     t.meta["convention"] = CONVENTION
+    if mission is not None:
+        t.meta["resolved_mission"] = [f"{sec}.{key} = {value:.10g} {unit.to_string()}" if unit is not None
+                                      else f"{sec}.{key} = {value}" for sec, key, value, unit, _ in mission_rows(mission)]
     return t
 
 
@@ -116,14 +120,18 @@ def snr_table(rows, mission_name: str, digest: str):
 
 
 def provenance(mission_name: str, digest: str) -> dict:
-    """Header metadata shared by every table gwclock writes."""
-    return {
+    """Header metadata shared by every table gwclock writes (with the command line that made it,
+    when it came from the command line)."""
+    meta = {
         "tool": "gwclock",
         "version": __version__,
         "mission": mission_name,
         "mission_sha256": digest,
         "created": _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat(),
     }
+    if COMMAND:
+        meta["command"] = shlex.join(COMMAND)
+    return meta
 
 
 def csv_table(table) -> Table:
