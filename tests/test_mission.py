@@ -108,6 +108,7 @@ BAD = [
      "spacecraft.acceleration_noise"),
     (("atom_number = 1e5", 'atom_number = 1e5\n[observation]\nduration = "1 yr"\nstart = 3'), "observation.start: unknown key"),
     (('name = "test"', 'name = ""'), "name"),
+    (('name = "test"', 'name = "test"\ncolour = "blue"'), "colour: got 'blue'"),
     (("[link]", "[lnk]"), "lnk: unknown key; did you mean 'link'?"),
     (("atom_number = 1e5", "atom_number = 1e5\nlink = 3"), "clock.link: unknown key"),
 ]

@@ -5,7 +5,7 @@ from matplotlib.figure import Figure
 
 from gwclock.config.mission import load_mission
 from gwclock.engine import envelope, window
-from gwclock.outputs.plotting import merged_noises, plot_budget
+from gwclock.outputs.plotting import merged_noises, noise_styles, plot_budget
 
 
 def test_budget_plot_artists():
@@ -63,3 +63,37 @@ def test_every_pdf_embeds_truetype_fonts(tmp_path, capsys):
     assert main(["curve", "--points", "30", "--plot", str(out)]) == 0
     data = out.read_bytes()
     assert b"/FontFile2" in data and b"/Type3" not in data
+
+
+class TestStyleRegistry:
+    """One look per object across figures (common practice in concept documents, no source)."""
+
+    def test_a_mission_keeps_its_colour_in_every_figure(self, tmp_path):
+        from gwclock.config.mission import load_mission
+        from gwclock.outputs.figures import render_spec
+        from gwclock.outputs.plotting import plot_comparison
+
+        from .conftest import MISSIONS
+        flagship = next(p for p in MISSIONS if p.stem == "flagship")
+        m, _ = load_mission(flagship)
+        assert m.colour == "#332288"
+        _, art, _ = render_spec({"form": "asd", "mission": [{"file": str(flagship)}, {"file": "default"}]},
+                                base_dir=flagship.parent)
+        f = np.geomspace(1e-3, 1, 5)
+        comp = plot_comparison(["Lodestar reference", m.name], f, [f, f], colours=[None, m.colour])
+        assert art["curves"][0].get_color() == comp["curves"][1].get_color() == "#332288"
+
+    def test_missions_without_a_colour_never_share_one(self):
+        from gwclock.outputs.styles import MISSION_PALETTE, StyleBook
+        book = StyleBook()
+        colours = [book.mission(f"mission {i}")["color"] for i in range(len(MISSION_PALETTE))]
+        assert sorted(colours) == sorted(MISSION_PALETTE)
+        assert StyleBook().mission("mission 3")["color"] == colours[3]  # stable: chosen from the name
+        assert book.mission("mission 3")["color"] == colours[3]
+
+    def test_noise_reference_and_mission_hues_are_disjoint(self):
+        from gwclock.outputs.styles import MISSION_PALETTE, REFERENCE_LOOKS
+        noise = {s["color"].upper() for s in noise_styles().values()}
+        refs = {s["color"].upper() for s in REFERENCE_LOOKS.values()}
+        missions = {c.upper() for c in MISSION_PALETTE}
+        assert not (noise & refs) and not (noise & missions) and not (refs & missions)

@@ -140,7 +140,8 @@ def cmd_compare(args):
         t.meta["note"] = "asd_i: mission i's curve (the envelope, or its window when it fixes sequence.tune); ratio_i = asd_i / asd_1"
         save_table(t, args.table)
     if args.plot:
-        art = plot_comparison([m.name for m in missions], f, [b.asd for b in budgets])
+        art = plot_comparison([m.name for m in missions], f, [b.asd for b in budgets],
+                              colours=[m.colour for m in missions])
         save_figure(art["asd"].figure, args.plot, metadata={
             "Title": "comparison of " + ", ".join(m.name for m in missions), "Creator": shlex.join(COMMAND_LINE),
             "Subject": "; ".join(f"[{i}] sha256 {d}" for i, (_, d) in enumerate(loaded, start=1))})

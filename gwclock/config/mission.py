@@ -182,6 +182,8 @@ class Mission(_Section):
 
     name: str = Field(min_length=1, description="mission name, shown in titles")
     description: str = Field("", description="free text")
+    colour: str | None = Field(None, pattern=r"^#[0-9A-Fa-f]{6}$",
+                               description="the colour the mission is drawn in, in every figure ('#RRGGBB')")
     link: Link
     clock: Clock
     laser: Laser = Laser()

@@ -23,7 +23,8 @@ from ..errors import InputError
 from ..files import inside
 from ..studies.background import hubble_constant, omega_noise
 from ..version import __version__
-from .plotting import MISSION_STYLES, REFERENCE_STYLES, SOURCE_STYLES, merged_noises, noise_styles, save_figure
+from .plotting import merged_noises, noise_styles, save_figure
+from .styles import StyleBook, reference_style
 
 __all__ = ["render_spec", "save_spec_figure", "YLABELS"]
 
@@ -108,16 +109,15 @@ class _Canvas:
         self.h0 = hubble_constant() if spec.form == "omega" else None
         self.artists = {"curves": [], "marks": [], "annotations": []}
         self.provenance = {"tool": f"gwclock {__version__}", "missions": []}
-        self.styles = {"mission": iter(MISSION_STYLES * 10), "reference": iter(REFERENCE_STYLES * 10),
-                       "source": iter(SOURCE_STYLES * 10)}
+        self.book = StyleBook()  # each mission, reference and source keeps its own look
         self.lw_scale = 0.75 if self.small else 1.0
         self.bands = 0
 
     def form(self, f, s_n):
         return _transform(self.spec.form, f, s_n, self.h0)
 
-    def line(self, x, y, label, family="mission", **extra):
-        st = dict(next(self.styles[family]))
+    def line(self, x, y, label, style, **extra):
+        st = dict(style)
         st["lw"] = st.get("lw", 1.5) * self.lw_scale
         st.update(extra)
         y = np.where(np.isfinite(y) & (y > 0), y, np.nan)
@@ -145,7 +145,7 @@ class _Canvas:
             except ValueError as exc:
                 raise InputError(str(exc), field="tune", value=item.tune) from None
             label = item.label or f"{mission.name} (tuned to {item.tune:.3g} Hz)"
-        ln = self.line(f, self.form(f, b.total), label)
+        ln = self.line(f, self.form(f, b.total), label, self.book.mission(mission.name, mission.colour))
         if item.noises:
             styles = noise_styles()
             # a noise the mission does not have gets no legend entry; coinciding ones share one
@@ -190,7 +190,7 @@ class _Canvas:
                 s_n = ref.network(fr, **opts)
             except ValueError as exc:  # the only option a reference takes is the confusion time
                 raise InputError(str(exc), field="confusion", value=item.confusion) from None
-            self.line(fr, self.form(fr, s_n), item.label or ref.network_label, "reference")
+            self.line(fr, self.form(fr, s_n), item.label or ref.network_label, reference_style(ref.key))
 
     def _source_value(self, hc, f):
         """An inspiral's h_c in the spec's form: h_c itself, or 2 sqrt(f)|h~| = h_c / sqrt(f)."""
@@ -204,7 +204,7 @@ class _Canvas:
             return
         ft = np.geomspace(spec.axes.fmin, top, 300)
         ln = self.line(ft, self._source_value(src.characteristic_strain(ft), ft),
-                       item.label or f"{item.mass1:g}+{item.mass2:g} Msun", "source")
+                       item.label or f"{item.mass1:g}+{item.mass2:g} Msun", self.book.source())
         if not item.marks:
             return
         for label, before in MARKS.items():

@@ -11,6 +11,7 @@ import numpy as np
 
 from ..files import FIGURE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
+from .styles import StyleBook
 
 __all__ = ["merged_noises", "plot_budget", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep",
            "axis_label", "unit_text", "MAX_FACETS", "save_figure", "noise_styles", "SERIES_STYLES"]
@@ -109,28 +110,7 @@ SERIES_STYLES = [
 ]
 
 
-# Separate families so that missions, reference detectors and sources never share a look.
-MISSION_STYLES = [
-    dict(color="black", linestyle="-", lw=2.2),
-    dict(color="#0072B2", linestyle="-", lw=2.0),
-    dict(color="#D55E00", linestyle="-", lw=2.0),
-    dict(color="#009E73", linestyle="-", lw=2.0),
-]
-REFERENCE_STYLES = [
-    dict(color="#56B4E9", linestyle=(0, (6, 2)), lw=1.4),
-    dict(color="#CC79A7", linestyle=(0, (2, 1.5)), lw=1.4),
-    dict(color="#E69F00", linestyle=(0, (6, 2, 1, 2)), lw=1.4),
-    dict(color="#7F7F7F", linestyle=(0, (1, 1)), lw=1.6),
-    dict(color="#56B4E9", linestyle=(0, (8, 2, 1, 2, 1, 2)), lw=1.4),
-]
-SOURCE_STYLES = [
-    dict(color="#444444", linestyle="-", lw=0.9),
-    dict(color="#8C6D31", linestyle="-", lw=0.9),
-    dict(color="#444444", linestyle=(0, (3, 1)), lw=0.9),
-]
-
-
-def plot_comparison(names, f, asds, fig=None):
+def plot_comparison(names, f, asds, fig=None, colours=None):
     """Missions side by side: their strain ASDs (top) and each one's ratio to the first (bottom).
 
     Parameters
@@ -140,6 +120,8 @@ def plot_comparison(names, f, asds, fig=None):
     asds : list of arrays, Hz^-1/2, one per mission (the first is the reference of the ratios)
     fig : matplotlib Figure, optional
         Drawn on (two axes are added); a new one when omitted.
+    colours : list of str or None, optional
+        Each mission's own colour (its file's ``colour``); see :class:`~gwclock.outputs.styles.StyleBook`.
 
     Returns
     -------
@@ -151,8 +133,10 @@ def plot_comparison(names, f, asds, fig=None):
     fig = fig if fig is not None else Figure(figsize=(6.4, 5.6), layout="constrained")
     top, bottom = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.3]})
     curves, ratios = [], []
+    book = StyleBook()
+    colours = colours or [None] * len(names)
     for i, (name, asd) in enumerate(zip(names, asds)):
-        st = MISSION_STYLES[i % len(MISSION_STYLES)]
+        st = book.mission(name, colours[i])
         asd = np.asarray(asd, dtype=float)
         (ln,) = top.plot(f, np.where(asd > 0, asd, np.nan), label=f"[{i + 1}] {name}", **st)
         curves.append(ln)

@@ -25,7 +25,8 @@ from ..files import atomic_path
 from ..studies.horizon import Z_MAX, horizon
 from ..studies.snr import TunedCurve, clock_snr, reference_snr
 from ..version import __version__
-from .plotting import REFERENCE_STYLES, draw_scan, plot_budget
+from .plotting import draw_scan, plot_budget
+from .styles import StyleBook, reference_style
 from .summary import describe_mission
 from .tables import provenance
 
@@ -87,9 +88,9 @@ def build_report(mission, digest, out_dir):
 
     fig = Figure(figsize=(6.4, 4.2), layout="constrained")
     ax = fig.add_subplot()
-    ax.plot(f, asd, color="black", lw=2.2, label=f"{mission.name} (tuned envelope)")
-    for k, style in zip(DEFAULT_COMPARISON, REFERENCE_STYLES):
-        ref = get_reference(k)
+    ax.plot(f, asd, label=f"{mission.name} (tuned envelope)", **StyleBook().mission(mission.name, mission.colour))
+    for k in DEFAULT_COMPARISON:
+        ref, style = get_reference(k), reference_style(k)
         fr = f[(f >= ref.band[0]) & (f <= ref.band[1])]
         ax.plot(fr, np.sqrt(ref.network(fr)), label=f"{ref.network_label} (sky-averaged)", **style)
     ax.set_xscale("log")
