@@ -179,6 +179,11 @@ def test_report_for_every_mission_is_self_contained(tmp_path, capsys, path):
     md = (out / "report.md").read_text()
     for name in ("budget.png", "references.png", "scan.png"):
         assert (out / name).exists() and f"({name})" in md
+        pdf = (out / name.replace(".png", ".pdf")).read_bytes()  # the same figure for a document
+        assert pdf[:5] == b"%PDF-" and b"/FontFile2" in pdf and b"/Type3" not in pdf
+    for name in ("mission.tex", "budget.tex"):
+        tex = (out / name).read_text()
+        assert r"\toprule" in tex and r"\bottomrule" in tex and "% mission: " in tex and f"`{name}`" in md
     refs = re.findall(r"""(?:src|href)\s*=\s*["']([^"']*)["']""", html)
     assert refs and all(r.startswith("data:") for r in refs)  # nothing fetched from anywhere
     assert "http://" not in html and "https://" not in html

@@ -25,9 +25,10 @@ from ..files import atomic_path
 from ..studies.horizon import Z_MAX, horizon
 from ..studies.snr import TunedCurve, clock_snr, reference_snr
 from ..version import __version__
+from .latex import budget_latex, mission_latex
 from .plotting import draw_scan, plot_budget
 from .styles import StyleBook, reference_style
-from .summary import describe_mission
+from .summary import describe_mission, mission_rows
 from .tables import provenance
 
 __all__ = ["build_report", "STANDARD_SOURCES"]
@@ -45,6 +46,15 @@ STANDARD_SOURCES = [
 def _png(fig):
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=150)
+    return buf.getvalue()
+
+
+def _pdf(fig, meta):
+    """A figure as PDF bytes with TrueType fonts (a journal's requirement), no date: reruns match."""
+    import matplotlib as mpl
+    buf = io.BytesIO()
+    with mpl.rc_context({"pdf.fonttype": 42}):
+        fig.savefig(buf, format="pdf", metadata={"Creator": meta, "CreationDate": None})
     return buf.getvalue()
 
 
@@ -80,11 +90,11 @@ def build_report(mission, digest, out_dir):
     budget = envelope(design, f)
     asd = budget.asd
     i = int(np.argmin(asd))
-    figures = {}
+    figures, drawn = {}, {}  # PNG bytes for the Markdown and the HTML; the figures for PDF copies
 
     fig = Figure(figsize=(6.4, 4.2), layout="constrained")
     plot_budget(budget, ax=fig.add_subplot(), title=f"{mission.name}: noise budget (tuned envelope)")
-    figures["budget"] = _png(fig)
+    figures["budget"], drawn["budget"] = _png(fig), fig
 
     fig = Figure(figsize=(6.4, 4.2), layout="constrained")
     ax = fig.add_subplot()
@@ -101,7 +111,7 @@ def build_report(mission, digest, out_dir):
     ax.grid(True, alpha=0.3)
     ax.legend(fontsize="small", loc="best")
     ax.set_title("Envelope against reference detectors")
-    figures["references"] = _png(fig)
+    figures["references"], drawn["references"] = _png(fig), fig
 
     lo_t = max(2 / (design.max_interrogation), 1e-3)
     tunings = np.geomspace(lo_t, min(0.4 / design.pi_pulse_duration, 30.0), 7)
@@ -111,7 +121,7 @@ def build_report(mission, digest, out_dir):
     ax = fig.add_subplot()
     draw_scan(ax, fs, tunings, S, S.min(axis=0))
     ax.set_title("Tuning scan: fixed-tuning windows")
-    figures["scan"] = _png(fig)
+    figures["scan"], drawn["scan"] = _png(fig), fig
 
     levels = sorted({float(f"{asd[i] * 2:.2g}"), float(f"{asd[i] * 10:.2g}")})
     bands = []
@@ -164,13 +174,24 @@ def build_report(mission, digest, out_dir):
            "Planck18)", "", "| total mass [Msun] | redshift | luminosity distance [Mpc] |",
            "|---|---|---|"]
     md += [f"| {m:g} | {fmt(z)} | {fmt(d, '.4g')} |" for m, z, d in horizons]
-    md += ["", "## Mission parameters", "", "```", params, "```", ""]
+    md += ["", "## Mission parameters", "", "```", params, "```", "",
+           "## Files for a concept document", "",
+           "Every figure also as PDF with TrueType fonts (`budget.pdf`, `references.pdf`, `scan.pdf`); LaTeX tables "
+           "(booktabs + siunitx) of the mission parameters (`mission.tex`) and of the noise budget at each decade "
+           "from 1e-4 Hz to 10 Hz (`budget.tex`).", ""]
     md_text = "\n".join(md)
 
     html_text = _html(md_text, figures, mission.name)
     out.mkdir(exist_ok=True)
     for name, data in figures.items():
         _write_atomic(out / f"{name}.png", data)
+        _write_atomic(out / f"{name}.pdf", _pdf(drawn[name], f"gwclock {__version__}; mission sha256 {digest}"))
+    prov = {"tool": f"gwclock {__version__}", "mission": f"{mission.name} (sha256 {digest})"}
+    if meta.get("command"):
+        prov["command"] = meta["command"]
+    _write_atomic(out / "mission.tex", mission_latex(mission_rows(mission), mission.name, prov).encode())
+    at = np.array([10.0**k for k in range(-4, 2)])
+    _write_atomic(out / "budget.tex", budget_latex(envelope(design, at), mission.name, prov).encode())
     _write_atomic(out / "report.md", md_text.encode())
     _write_atomic(out / "report.html", html_text.encode())
     return out / "report.md", out / "report.html"
