@@ -11,6 +11,7 @@ import subprocess
 import zlib
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from gwclock.cli import main
@@ -264,3 +265,23 @@ def test_the_caption_speaks_only_of_what_is_drawn():
                         "point": [{"frequency": "3 mHz", "h0": 1e-22}]})[1]["caption"].get_text()
     assert only == "sky-averaged"
     assert "references S_n / channels" in both and "h0 sqrt(T)" in both
+
+
+def test_time_marks_chosen_by_the_user_sit_where_the_chirp_puts_them():
+    # leading-order chirp: f(tau) = (1/pi) (5 / (256 tau))^(3/8) (G M_c / c^3)^(-5/8)
+    # (Peters 1964, Phys. Rev. 136, B1224; Maggiore 2008, Gravitational Waves vol. 1, eq. 4.19)
+    from astropy import constants as const
+
+    from gwclock.astro.sources import Inspiral
+    spec = {"form": "asd", "axes": {"fmin": "1e-5 Hz", "fmax": "1 Hz"},
+            "track": [{"mass1": 1e5, "mass2": 1e5, "redshift": 1, "marks": ["1 week", "10 min"]}]}
+    _, art, _ = render_spec(spec)
+    labels = [a.get_text() for a in art["annotations"] if hasattr(a, "get_text")]
+    assert labels == ["1 week", "10 min"]
+    src = Inspiral.from_masses(1e5, 1e5, redshift=1)
+    tm = const.G.value * src.chirp_mass / const.c.value**3
+    for mark, tau in zip(art["marks"], (7 * 86400.0, 600.0)):
+        f = (5 / (256 * tau)) ** (3 / 8) * tm ** (-5 / 8) / np.pi
+        assert float(mark.get_xdata()[0]) == pytest.approx(f, rel=1e-9, abs=0)
+    with pytest.raises(InputError, match=r"track\[0\]\.marks"):
+        render_spec({**spec, "track": [{"mass1": 1e5, "mass2": 1e5, "redshift": 1, "marks": ["1 kg"]}]})

@@ -45,6 +45,18 @@ def _metres(value: Any) -> float:
     return x
 
 
+def _marks(value: Any):
+    """Time marks: true (the default set), false, or times before merger written with their units
+    ("1 week", "10 min"), kept as written for the labels."""
+    if isinstance(value, bool):
+        return value
+    if not isinstance(value, list) or not all(isinstance(v, str) for v in value) or len(value) > 20:
+        raise ValueError("expected true, false or a list of up to 20 times such as ['1 week', '10 min']")
+    for v in value:
+        _seconds(v)
+    return [" ".join(v.split()) for v in value]
+
+
 Hz = Annotated[float, BeforeValidator(_hz)]
 Seconds = Annotated[float, BeforeValidator(_seconds)]
 Metres = Annotated[float, BeforeValidator(_metres)]
@@ -81,7 +93,8 @@ class TrackItem(_Item):
     distance: Metres | None = None
     redshift: float | None = Field(None, ge=0)
     label: str | None = None
-    marks: bool = True
+    marks: Annotated[bool | list[str], BeforeValidator(_marks)] = Field(
+        True, description="time marks before merger: true (1 yr, 1 month, 1 day, 1 hour), false, or a list such as ['1 week', '10 min']")
 
     @model_validator(mode="after")
     def _one_distance(self):

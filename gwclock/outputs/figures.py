@@ -21,6 +21,7 @@ from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
 from ..files import inside
+from ..quantities import parse_quantity
 from ..studies.background import hubble_constant, omega_noise
 from ..version import __version__
 from .plotting import merged_noises, noise_styles, save_figure
@@ -207,7 +208,8 @@ class _Canvas:
                        item.label or f"{item.mass1:g}+{item.mass2:g} Msun", self.book.source())
         if not item.marks:
             return
-        for label, before in MARKS.items():
+        marks = MARKS if item.marks is True else {m: float(parse_quantity(m, "s").value) for m in item.marks}
+        for label, before in marks.items():
             fm = float(src.frequency_at(before))
             if ft[0] <= fm <= ft[-1]:
                 ym = float(self._source_value(src.characteristic_strain(fm), fm))
