@@ -467,3 +467,30 @@ def test_a_scan_colours_each_window_by_its_tuning_on_a_colour_bar():
     assert cb is not None and cb.norm.vmin == pytest.approx(0.01, rel=1e-12, abs=0)
     for t, line in zip(tunings, art["windows"]):
         assert line.get_color() == cb.cmap(cb.norm(t))
+
+
+def test_a_target_is_drawn_as_its_own_level(tmp_path, capsys):
+    # the target contour is the level set Z = target of the drawn map (checked by interpolating the
+    # map's own grid at the contour's vertices, scipy.interpolate); no plain contour repeats it
+    from matplotlib.colors import to_hex
+    from scipy.interpolate import RegularGridInterpolator
+
+    from gwclock.outputs.plotting import TARGET_COLOUR, draw_sweep
+    from gwclock.studies.executor import run_sweep
+    m, _ = load_mission(None)
+    axes = [parse_vary("clock.atom_number=1e3:1e7:9:log", m), parse_vary("link.baseline=1e10 m:5e10 m:5", m)]
+    rows = []
+    run_sweep(m, axes, ["asd@0.1 Hz"], sink=rows.append)
+    from astropy.table import vstack
+    t = vstack(rows)
+    fig, ax = draw_sweep(None, axes, parse_metric("asd@0.1 Hz"), t, target=1e-18)
+    sets = [c for c in ax.collections if hasattr(c, "levels")]
+    target = [c for c in sets if to_hex(c.get_edgecolor()[0]) == TARGET_COLOUR.lower()]
+    assert len(target) == 1 and list(target[0].levels) == pytest.approx([-18.0], rel=1e-12, abs=0)
+    assert all(abs(v + 18.0) > 1e-6 for c in sets if c not in target for v in c.levels)
+    Z = np.log10(np.asarray(t["asd@0.1Hz"], dtype=float).reshape(9, 5))
+    grid = RegularGridInterpolator((axes[0].values, axes[1].values), Z)
+    vertices = np.concatenate([p.vertices for p in target[0].get_paths()])
+    # on the cell edges the level set is exact; the label's gap adds vertices on the straight piece
+    # between two edge crossings, where bilinear interpolation differs by a little (< 1e-4 here)
+    np.testing.assert_allclose(grid(vertices), -18.0, rtol=1e-4, atol=0)

@@ -70,7 +70,8 @@ def cmd_sweep(args):
         shown = column or (f"band@{metric.arg:g}" if metric.kind == "band" and len(axes) == 1 else metric.columns[0])
         title = f"{mission.name}: {shown}"
         facets = len(axes) == 3  # panels replace the one axes: the title goes over all of them
-        save_plot(args.plot, lambda ax: draw_sweep(ax, axes, metric, table, title if facets else None, column),
+        save_plot(args.plot, lambda ax: draw_sweep(ax, axes, metric, table, title if facets else None, column,
+                                                   args.target),
                   None if facets else title, size=(9.0, 4.2) if facets else (6.4, 4.6),
                   metadata={"Title": f"{mission.name} sweep"})
     return 0
@@ -191,6 +192,7 @@ def add_commands(sub):
                     help="asd@FREQ, band@LEVEL, snr:SOURCE_FILE[:SCHEDULE], horizon:MASS, power_needed@FREQ")
     sp.add_argument("--perturb", action="append", help="FIELD=REL_SIGMA: Monte-Carlo band (repeatable)")
     sp.add_argument("--plot-metric", help="the column --plot draws (default: the first metric; band@ as a band)")
+    sp.add_argument("--target", type=float, help="draw this level of the plotted column (a line, or a contour on maps)")
     sp.add_argument("--samples", type=int, default=200, help="Monte-Carlo samples per point (default 200)")
     sp.add_argument("--seed", type=int, default=12345, help="random seed (default 12345)")
     output_args(sp)

@@ -271,15 +271,16 @@ def unit_text(unit) -> str:
 MAX_FACETS = 6
 
 
-def draw_sweep(ax, axes, metric, table, title=None, column=None):
+def draw_sweep(ax, axes, metric, table, title=None, column=None, target=None):
     """A sweep's metric against one varied field (a line; a band metric as a shaded band) or two (a
     map with contours); a third varied field gives one panel per value (at most MAX_FACETS).
 
     ``column`` is the table column drawn (default the metric's first; for ``band@`` in one
-    dimension both edges, as a band)."""
+    dimension both edges, as a band); ``target`` draws that level of it (a line, or a contour on
+    maps) in a colour of its own."""
     col = column or metric.columns[0]
     if len(axes) == 3:
-        return _facets(ax, axes, metric, table, title, col)
+        return _facets(ax, axes, metric, table, title, col, target)
     fig, ax = _new_axes(ax)
     unit = metric.units[metric.columns.index(col)] if col in metric.columns else ""
     y = np.asarray(table[col], dtype=float)
@@ -303,6 +304,9 @@ def draw_sweep(ax, axes, metric, table, title=None, column=None):
                 ax.legend(frameon=False)
             if np.all(y[np.isfinite(y)] > 0):
                 ax.set_yscale("log")
+        if target is not None:
+            ax.axhline(target, color=TARGET_COLOUR, lw=1.4, linestyle=(0, (5, 2)), label=f"target {target:g}")
+            ax.legend(frameon=False)
         ax.set_xscale("log" if a.log else "linear")
         ax.set_xlabel(axis_label(a.field, a.unit))
         ax.set_ylabel(label)
@@ -316,8 +320,18 @@ def draw_sweep(ax, axes, metric, table, title=None, column=None):
         cb = fig.colorbar(mesh, ax=ax)
         cb.set_label(("log10 " if logz else "") + label)
         if np.isfinite(Zp).sum() > 3 and len(a.values) > 1 and len(b.values) > 1:
-            cs = ax.contour(a.values, b.values, Zp, colors="white", linewidths=0.8, linestyles="solid")
-            ax.clabel(cs, fontsize="x-small", fmt="%.3g", inline=True, inline_spacing=4)
+            from matplotlib.ticker import MaxNLocator
+            finite = Zp[np.isfinite(Zp)]
+            levels = MaxNLocator(7).tick_values(finite.min(), finite.max())
+            if target is not None and (target > 0 or not logz):  # the target's own contour replaces an equal one
+                t = np.log10(target) if logz else target
+                levels = [v for v in levels if abs(v - t) > 1e-9 * max(abs(t), 1.0)]
+            levels = [v for v in levels if finite.min() < v < finite.max()]
+            if levels:
+                cs = ax.contour(a.values, b.values, Zp, levels=levels, colors="white", linewidths=0.8,
+                                linestyles="solid")
+                ax.clabel(cs, fontsize="x-small", fmt="%.3g", inline=True, inline_spacing=4)
+        _target_contour(ax, a.values, b.values, Zp, target, logz)
         ax.set_xscale("log" if a.log else "linear")
         ax.set_yscale("log" if b.log else "linear")
         ax.set_xlabel(axis_label(a.field, a.unit))
@@ -327,7 +341,24 @@ def draw_sweep(ax, axes, metric, table, title=None, column=None):
     return fig, ax
 
 
-def _facets(ax, axes, metric, table, title, col):
+#: The colour of a target level on sweep figures (in no other family).
+TARGET_COLOUR = "#EE3377"
+
+
+def _target_contour(ax, x, y, Zp, target, logz):
+    """The contour where the drawn metric equals ``target``, labelled "target"; None if absent."""
+    if target is None or not (len(x) > 1 and len(y) > 1) or (logz and target <= 0):
+        return None
+    level = np.log10(target) if logz else target
+    finite = Zp[np.isfinite(Zp)]
+    if finite.size == 0 or not finite.min() < level < finite.max():
+        return None
+    cs = ax.contour(x, y, Zp, levels=[level], colors=TARGET_COLOUR, linewidths=1.8, linestyles="solid")
+    ax.clabel(cs, fmt={level: f"target {target:g}"}, fontsize="x-small", inline=True)
+    return cs
+
+
+def _facets(ax, axes, metric, table, title, col, target=None):
     """One panel per value of the third varied field, sharing the colour scale of the metric."""
     from matplotlib.figure import Figure
 
@@ -346,6 +377,7 @@ def _facets(ax, axes, metric, table, title, col):
     mesh = None
     for k, p in enumerate(panels):
         mesh = p.pcolormesh(a.values, b.values, Y[:, :, k].T, shading="nearest", cmap="cividis", vmin=lo, vmax=hi)
+        _target_contour(p, a.values, b.values, Y[:, :, k].T, target, logz)
         p.set_xscale("log" if a.log else "linear")
         p.set_yscale("log" if b.log else "linear")
         p.set_title(f"{axis_label(c.field)} = {c.values[k]:.3g}" + (f" {unit_text(c.unit)}" if c.unit else ""),
