@@ -1,6 +1,7 @@
 """Figures checked through their artists (scales, labels with units, curves, legend)."""
 
 import numpy as np
+import pytest
 from matplotlib.figure import Figure
 
 from gwclock.config.mission import load_mission
@@ -97,3 +98,25 @@ class TestStyleRegistry:
         refs = {s["color"].upper() for s in REFERENCE_LOOKS.values()}
         missions = {c.upper() for c in MISSION_PALETTE}
         assert not (noise & refs) and not (noise & missions) and not (refs & missions)
+
+
+def test_the_two_panel_budget_shares_add_up_and_mark_the_sequence_changes():
+    # the shares of a PSD add up to 100 % (identity); a change of sequence is marked between the two
+    # grid points where the pulse count goes from 0 to > 0; the wall sits at 1/(2 t_pi) (common practice)
+    from gwclock.outputs.plotting import plot_budget_panels
+    m, _ = load_mission(None)
+    f = np.geomspace(1e-4, 100, 120)
+    b = envelope(m.design(), f)
+    art = plot_budget_panels(b)
+    top_edge = art["bands"][-1].get_paths()[0].vertices[:, 1].max()
+    assert top_edge == pytest.approx(100.0, rel=1e-9, abs=0)
+    xs = sorted({float(line.get_xdata()[0]) for line in art["changes"]})
+    dd = b.pulses > 0
+    switches = [np.sqrt(f[i] * f[i + 1]) for i in np.flatnonzero(dd[1:] != dd[:-1])]
+    wall = 1 / (2 * m.design().pi_pulse_duration)
+    assert all(any(abs(x / s - 1) < 1e-12 for x in xs) for s in switches) and switches
+    assert any(abs(x / wall - 1) < 1e-12 for x in xs)
+    lo, hi = art["asd"].get_ylim()
+    for name, line in art["lines"].items():  # every noise in the legend shows inside the axes
+        y = np.asarray(line.get_ydata(), dtype=float)
+        assert np.any((y > lo) & (y < hi)), name

@@ -11,7 +11,7 @@ from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
 from ..outputs.latex import Raw, budget_latex, latex_number, latex_unit, mission_latex, table_latex
-from ..outputs.plotting import plot_budget, plot_comparison, save_figure
+from ..outputs.plotting import plot_budget_panels, plot_comparison, save_figure
 from ..outputs.summary import describe_mission, mission_differences, mission_rows, summarise_budget
 from ..outputs.tables import Column, budget_table, provenance
 from ..physics.species import SPECIES
@@ -26,7 +26,6 @@ from .common import (
     latex_provenance,
     mission_arg,
     save_latex,
-    save_plot,
     save_table,
     say,
     tuned,
@@ -46,8 +45,10 @@ def _write(budget, mission, digest, args):
     if args.plot:
         kind = "tuned envelope" if budget.mode == "envelope" else "fixed-tuning window"
         title = f"{mission.name}: {kind} and noise budget"
-        save_plot(args.plot, lambda ax: plot_budget(budget, ax=ax, title=title), None, size=(6.4, 4.2),
-                  metadata={"Title": mission.name, "Subject": f"mission sha256 {digest}"})
+        art = plot_budget_panels(budget, title=title)
+        save_figure(art["asd"].figure, args.plot, metadata={"Title": mission.name, "Creator": shlex.join(COMMAND_LINE),
+                                                             "Subject": f"mission sha256 {digest}"})
+        say(args, f"wrote figure {args.plot}")
 
 
 def _load(args):

@@ -10,10 +10,10 @@ from pathlib import Path
 import numpy as np
 
 from ..files import FIGURE_FORMATS, atomic_path, check_output_path
-from ..physics.noises import NOISES
+from ..physics.noises import NOISES, pulse_bandwidth
 from .styles import StyleBook
 
-__all__ = ["merged_noises", "plot_budget", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep",
+__all__ = ["merged_noises", "plot_budget", "plot_budget_panels", "plot_lines", "plot_comparison", "draw_scan", "draw_sweep",
            "axis_label", "unit_text", "MAX_FACETS", "save_figure", "noise_styles", "SERIES_STYLES"]
 
 def noise_styles() -> dict[str, dict]:
@@ -86,16 +86,70 @@ def plot_budget(budget, ax=None, title=None, components=True):
     ax.set_xlabel("frequency [Hz]")
     ax.set_ylabel(r"strain ASD [Hz$^{-1/2}$]")
     good = budget.asd[np.isfinite(budget.asd)]
-    ax.set_ylim(good.min() / 5, min(good.max(), good.min() * 1e7) * 5)
+    # every drawn noise down to a thousandth of the best total stays in view (none is in the legend only)
+    drawn = [budget.asd_of(n) for n in noise_styles()] if components else []
+    lowest = min([np.min(y[y > 0]) for y in drawn if np.any(y > 0)] + [good.min()])
+    ax.set_ylim(max(lowest, good.min() * 1e-3) / 2, min(good.max(), good.min() * 1e7) * 5)
     ax.grid(True, which="major", alpha=0.35)
     ax.grid(True, which="minor", alpha=0.12)
     if title:
         ax.set_title(title)
-    ax.legend(loc="best", fontsize="small", framealpha=0.85)
-    if budget.mode == "envelope":
-        ax.text(0.01, 0.01, "envelope: each frequency at its own best tuning", transform=ax.transAxes,
-                fontsize="x-small", color="0.3", va="bottom")
+    note = "each frequency at its own best tuning" if budget.mode == "envelope" else None
+    ax.legend(loc="best", fontsize="small", framealpha=0.85, title=note, title_fontsize="x-small")
     return artists
+
+
+def plot_budget_panels(budget, fig=None, title=None):
+    """The noise budget in two panels: the strain ASD with every noise (top) and, below it, each
+    noise's share of the strain PSD as stacked bands, with the changes of sequence marked (Ramsey
+    and dynamical decoupling, and the pulse bandwidth 1/(2 t_pi) above which the pi pulses no longer
+    sample the light and the clock falls back to Ramsey).
+
+    Parameters
+    ----------
+    budget : gwclock.engine.Budget
+    fig : matplotlib Figure, optional
+        Drawn on (two axes are added); a new one when omitted.
+    title : str, optional
+
+    Returns
+    -------
+    dict
+        ``{"asd": Axes, "share": Axes, "lines": {noise: Line2D, "total": Line2D}, "bands": [PolyCollection],
+        "changes": [Line2D]}``.
+    """
+    from matplotlib.figure import Figure
+
+    fig = fig if fig is not None else Figure(figsize=(6.4, 5.8), layout="constrained")
+    top, bottom = fig.subplots(2, 1, sharex=True, gridspec_kw={"height_ratios": [3, 1.6]})
+    lines = plot_budget(budget, ax=top, title=title)
+    f = budget.frequency
+    styles = noise_styles()
+    shown = [k for k in styles if np.any(budget.psd[k] > 0)]
+    shares = np.array([100 * budget.psd[k] / budget.total for k in shown])
+    bands = bottom.stackplot(f, shares, colors=[styles[k]["color"] for k in shown], alpha=0.75, lw=0,
+                             labels=[styles[k]["label"] for k in shown])
+    # sequence changes: Ramsey <-> dynamical decoupling, and the wall at the pulse bandwidth
+    changes = []
+    dd = np.asarray(budget.pulses) > 0
+    for i in np.flatnonzero(dd[1:] != dd[:-1]):
+        x = float(np.sqrt(f[i] * f[i + 1]))
+        for ax in (top, bottom):
+            changes.append(ax.axvline(x, color="0.35", lw=0.7, linestyle=(0, (1, 2))))
+        bottom.annotate("DD" if dd[i + 1] else "Ramsey", (x, 100), xytext=(2, -2), textcoords="offset points",
+                        fontsize="xx-small", va="top", color="0.25")
+    wall = pulse_bandwidth(budget.design)
+    if f[0] < wall < f[-1]:
+        changes.append(top.axvline(wall, color="0.35", lw=0.7, linestyle=(0, (1, 2))))
+        top.annotate("1/(2 t$_\\pi$):\nno pulse\nfits above", (wall, 0.98), xycoords=("data", "axes fraction"),
+                     xytext=(-3, 0), textcoords="offset points", fontsize="xx-small", ha="right", va="top",
+                     color="0.3")
+    bottom.set_ylim(0, 100)
+    bottom.set_ylabel("share of PSD [%]")
+    bottom.set_xlabel("frequency [Hz]")
+    top.set_xlabel("")
+    bottom.grid(True, which="major", alpha=0.3)
+    return {"asd": top, "share": bottom, "lines": lines, "bands": bands, "changes": changes}
 
 
 # Okabe & Ito hues with dash patterns, cycled for overlays of several curves.

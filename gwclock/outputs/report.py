@@ -26,7 +26,7 @@ from ..studies.horizon import Z_MAX, horizon
 from ..studies.snr import TunedCurve, clock_snr, reference_snr
 from ..version import __version__
 from .latex import budget_latex, mission_latex
-from .plotting import draw_scan, plot_budget
+from .plotting import draw_scan, plot_budget_panels
 from .styles import StyleBook, reference_style
 from .summary import describe_mission, mission_rows
 from .tables import provenance
@@ -92,8 +92,8 @@ def build_report(mission, digest, out_dir):
     i = int(np.argmin(asd))
     figures, drawn = {}, {}  # PNG bytes for the Markdown and the HTML; the figures for PDF copies
 
-    fig = Figure(figsize=(6.4, 4.2), layout="constrained")
-    plot_budget(budget, ax=fig.add_subplot(), title=f"{mission.name}: noise budget (tuned envelope)")
+    fig = Figure(figsize=(6.4, 5.8), layout="constrained")
+    plot_budget_panels(budget, fig=fig, title=f"{mission.name}: noise budget (tuned envelope)")
     figures["budget"], drawn["budget"] = _png(fig), fig
 
     fig = Figure(figsize=(6.4, 4.2), layout="constrained")

@@ -7,6 +7,8 @@ import io
 from astropy.table import Table
 
 from ..files import TABLE_FORMATS, atomic_path, check_output_path, check_stop
+from .ecsv import supported, write_ecsv
+from .tables import csv_table
 
 __all__ = ["TableStream"]
 
@@ -29,19 +31,22 @@ class TableStream:
 
     def _render(self, table):
         t = Table(table, copy=False)
-        t.meta = dict(self.meta) if self.fmt == "ascii.ecsv" else {"comments": [f"{k}: {v}" for k, v in self.meta.items()]
-                                                                     + [f"column {c}: unit {t[c].unit or '1'}" for c in t.colnames]}
+        t.meta = dict(self.meta)
         buf = io.StringIO()
-        kwargs = {"comment": "# "} if self.fmt == "ascii.csv" else {}
-        t.write(buf, format=self.fmt, **kwargs)
+        if self.fmt == "ascii.csv":  # plain CSV, as every table gwclock writes (units in the names)
+            csv_table(t).write(buf, format="ascii.csv")
+        elif supported(t):  # one header line per meta entry, never wrapped
+            write_ecsv(t, buf)
+        else:
+            t.write(buf, format=self.fmt)
         return buf.getvalue()
 
     def append(self, table):
         check_stop()
         text = self._render(table)
-        if self.rows:
+        if self.rows:  # the header once: drop the comment lines and the column-name line
             lines = [ln for ln in text.splitlines(keepends=True) if not ln.startswith("#")]
-            text = "".join(lines[1:])  # drop the column-name line
+            text = "".join(lines[1:])
         self._fh.write(text)
         self._fh.flush()  # each finished chunk is on disk (in the temporary file) as it comes
         self.rows += len(table)
