@@ -13,7 +13,7 @@ import sys
 import threading
 
 from ..errors import InputError
-from ..files import STOP
+from ..files import COMMAND, STOP
 from ..version import __version__
 from . import common, design, documents, science, study
 from .common import Parser
@@ -70,7 +70,7 @@ def main(argv=None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
     argv = [a for a in argv if a != "--debug"]  # taken anywhere, before or after the command
-    common.COMMAND_LINE[:] = ["gwclock", *argv]
+    COMMAND[:] = ["gwclock", *argv]
     common._TABLE_ON_STDOUT[0] = False
     STOP.clear()  # a new run
     _stop_politely_on_sigterm()

@@ -26,7 +26,7 @@ from ..quantities import checked_frequency, parse_quantity
 from ..version import __version__
 
 __all__ = ["Parser", "mission_arg", "grid_args", "output_args", "frequency", "grid", "tuned", "quantity",
-           "number", "check_outputs", "warn", "check_reach", "latex_arg", "latex_provenance", "save_latex",
+           "number", "check_outputs", "warn", "check_reach", "latex_arg", "save_latex", "save_drawn",
            "save_table", "say", "STDOUT", "save_plot", "DEFAULT_FMIN", "DEFAULT_FMAX", "DEFAULT_POINTS"]
 
 DEFAULT_FMIN, DEFAULT_FMAX, DEFAULT_POINTS = f"{SPAN[0]:g} Hz", f"{SPAN[1]:g} Hz", 400
@@ -149,19 +149,9 @@ def check_outputs(args) -> None:
         check_output_path(args.latex, LATEX_FORMATS)
 
 
-#: The command line of this run, as the user could type it again (set by :func:`gwclock.cli.main`).
-COMMAND_LINE = COMMAND
-
-
 def latex_arg(sp, what):
     """``--latex FILE``: the same result as a LaTeX table (booktabs and siunitx)."""
     sp.add_argument("--latex", help=f"write {what} as a LaTeX table here (.tex; booktabs + siunitx)")
-
-
-def latex_provenance(mission, digest) -> dict:
-    """The comment lines of a LaTeX table: the command line and the mission it used."""
-    return {"command": shlex.join(COMMAND_LINE), "mission": f"{mission.name} (sha256 {digest})",
-            "tool": f"gwclock {__version__}"}
 
 
 def save_latex(text, path):
@@ -180,9 +170,9 @@ def _lines():
     return sys.stderr if _TABLE_ON_STDOUT[0] else sys.stdout
 
 
-def say(args, text):
+def say(text):
     """A line for the user: on stdout, or on stderr when stdout carries the table (``--table -``)."""
-    print(text, file=sys.stderr if getattr(args, "table", None) == STDOUT or _TABLE_ON_STDOUT[0] else sys.stdout)
+    print(text, file=_lines())
 
 
 def save_table(table, path):
@@ -203,5 +193,10 @@ def save_plot(path, draw, title, size=(6.4, 4.4), metadata=None):
     draw(ax)
     if title:
         ax.set_title(title)
-    save_figure(fig, path, metadata={"Title": title, "Creator": f"gwclock {__version__}", **(metadata or {})})
-    print(f"wrote figure {path}", file=_lines())
+    save_drawn(fig, path, {"Title": title, **(metadata or {})})
+
+
+def save_drawn(fig, path, metadata):
+    """Save a finished figure atomically, its metadata naming the command line that made it."""
+    save_figure(fig, path, metadata={"Creator": shlex.join(COMMAND) or f"gwclock {__version__}", **metadata})
+    say(f"wrote figure {path}")

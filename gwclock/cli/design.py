@@ -2,29 +2,26 @@
 
 from __future__ import annotations
 
-import shlex
-
 import numpy as np
 from astropy.table import Table
 
 from ..config.mission import load_mission
 from ..engine import envelope, window
 from ..errors import InputError
-from ..outputs.latex import Raw, budget_latex, latex_number, latex_unit, mission_latex, table_latex
-from ..outputs.plotting import plot_budget_panels, plot_comparison, save_figure
+from ..outputs.latex import Raw, budget_latex, latex_number, latex_provenance, latex_unit, mission_latex, table_latex
+from ..outputs.plotting import plot_budget_panels, plot_comparison
 from ..outputs.summary import describe_mission, mission_differences, mission_rows, summarise_budget
 from ..outputs.tables import Column, budget_table, provenance
 from ..physics.species import SPECIES
 from .common import (
-    COMMAND_LINE,
     check_outputs,
     check_reach,
     frequency,
     grid,
     grid_args,
     latex_arg,
-    latex_provenance,
     mission_arg,
+    save_drawn,
     save_latex,
     save_table,
     say,
@@ -41,14 +38,12 @@ def _write(budget, mission, digest, args):
         design = budget.design
         at = budget_frequencies(args, budget.frequency)
         b = envelope(design, at) if budget.mode == "envelope" else window(design, at, tune=float(budget.tuning[0]))
-        save_latex(budget_latex(b, mission.name, latex_provenance(mission, digest)), args.latex)
+        save_latex(budget_latex(b, mission.name, latex_provenance(mission.name, digest)), args.latex)
     if args.plot:
         kind = "tuned envelope" if budget.mode == "envelope" else "fixed-tuning window"
         title = f"{mission.name}: {kind} and noise budget"
         art = plot_budget_panels(budget, title=title)
-        save_figure(art["asd"].figure, args.plot, metadata={"Title": mission.name, "Creator": shlex.join(COMMAND_LINE),
-                                                             "Subject": f"mission sha256 {digest}"})
-        say(args, f"wrote figure {args.plot}")
+        save_drawn(art["asd"].figure, args.plot, {"Title": mission.name, "Subject": f"mission sha256 {digest}"})
 
 
 def _load(args):
@@ -60,7 +55,7 @@ def cmd_check(args):
     check_outputs(args)
     print(describe_mission(mission, digest))
     if args.latex:
-        save_latex(mission_latex(mission_rows(mission), mission.name, latex_provenance(mission, digest)), args.latex)
+        save_latex(mission_latex(mission_rows(mission), mission.name, latex_provenance(mission.name, digest)), args.latex)
     return 0
 
 
@@ -86,7 +81,7 @@ def cmd_curve(args):
     design = mission.design()
     check_reach(design, f[0], "--fmin", args.fmin)
     budget = envelope(design, f) if design.tune is None else window(design, f)
-    say(args, summarise_budget(budget, mission.name))
+    say(summarise_budget(budget, mission.name))
     _write(budget, mission, digest, args)
     return 0
 
@@ -97,7 +92,7 @@ def cmd_window(args):
     mission, _ = tuned(mission, args.tune)
     check_outputs(args)
     budget = window(mission.design(), f)
-    say(args, summarise_budget(budget, mission.name))
+    say(summarise_budget(budget, mission.name))
     _write(budget, mission, digest, args)
     return 0
 
@@ -143,10 +138,9 @@ def cmd_compare(args):
     if args.plot:
         art = plot_comparison([m.name for m in missions], f, [b.asd for b in budgets],
                               colours=[m.colour for m in missions])
-        save_figure(art["asd"].figure, args.plot, metadata={
-            "Title": "comparison of " + ", ".join(m.name for m in missions), "Creator": shlex.join(COMMAND_LINE),
+        save_drawn(art["asd"].figure, args.plot, {
+            "Title": "comparison of " + ", ".join(m.name for m in missions),
             "Subject": "; ".join(f"[{i}] sha256 {d}" for i, (_, d) in enumerate(loaded, start=1))})
-        say(args, f"wrote figure {args.plot}")
     if args.latex:
         names = [m.name for m in missions]
         rows = [(key, *[Raw(latex_number(v, 6) + (f"~{latex_unit(unit)}" if unit is not None else "")) for v in values])
@@ -154,7 +148,7 @@ def cmd_compare(args):
         columns = [("parameter", None, "l")] + [(f"[{i}] {n}", None, "l") for i, n in enumerate(names, start=1)]
         caption = "Parameters in which the missions differ (all others are equal): " + "; ".join(
             f"[{i}] {n}" for i, n in enumerate(names, start=1)) + "."
-        prov = latex_provenance(missions[0], loaded[0][1])
+        prov = latex_provenance(missions[0].name, loaded[0][1])
         prov["missions"] = "; ".join(f"[{i}] {m.name} (sha256 {d})" for i, (m, d) in enumerate(loaded, start=1))
         save_latex(table_latex(rows or [("(none)", *[""] * len(names))], columns, caption, "tab:mission-differences", prov),
                    args.latex)

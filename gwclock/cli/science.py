@@ -14,7 +14,7 @@ from ..config.mission import load_mission
 from ..constants import MPC, MSUN, YEAR
 from ..engine import envelope
 from ..errors import InputError
-from ..outputs.latex import Raw, astropy_latex, escape
+from ..outputs.latex import Raw, astropy_latex, escape, latex_provenance
 from ..outputs.plotting import plot_lines
 from ..outputs.tables import Column, provenance, reference_table, snr_table, track_table
 from ..quantities import checked_frequency
@@ -28,7 +28,6 @@ from .common import (
     grid,
     grid_args,
     latex_arg,
-    latex_provenance,
     mission_arg,
     number,
     output_args,
@@ -228,7 +227,7 @@ def cmd_snr(args):
                    f"{cadence:g} s with {overhead:g} s lost each time) and in the reference detectors, sky-, "
                    f"polarisation- and inclination-averaged, over {T / YEAR:.3g} yr unless noted.")
         titles = {"snr": "SNR", "f_start": "from", "f_end": "to", "observed": "observed"}
-        save_latex(astropy_latex(t, caption, "tab:snr", latex_provenance(mission, digest), skip=("note",),
+        save_latex(astropy_latex(t, caption, "tab:snr", latex_provenance(mission.name, digest), skip=("note",),
                                  titles=titles), args.latex)
     return 0
 
@@ -273,7 +272,7 @@ def cmd_horizon(args):
         short = {k: label.split(" (")[0].split(",")[0] for k, label, *_ in detectors}  # "LISA, 2 channels": LISA
         titles = {"total_mass": "total mass", **{f"z_{k}": short[k] for k in keys}}
         groups = [("horizon redshift z", 1, len(keys))]
-        save_latex(astropy_latex(t, caption, "tab:horizon", latex_provenance(mission, digest), titles=titles,
+        save_latex(astropy_latex(t, caption, "tab:horizon", latex_provenance(mission.name, digest), titles=titles,
                                  skip=[f"distance_{k}" for k in keys], groups=groups), args.latex)
     if args.plot:
         save_plot(args.plot, lambda ax: plot_lines([(lab, x, np.where(np.isfinite(y), y, np.nan)) for lab, x, y in series],

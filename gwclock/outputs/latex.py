@@ -11,15 +11,17 @@ from __future__ import annotations
 
 import math
 import re
+import shlex
 from fractions import Fraction
 
 import astropy.units as u
 import numpy as np
 
-from ..files import atomic_path, check_output_path
+from ..files import COMMAND, atomic_path, check_output_path
+from ..version import __version__
 
-__all__ = ["Raw", "escape", "latex_unit", "latex_number", "table_latex", "mission_latex", "budget_latex", "astropy_latex", "write_latex",
-           "LATEX_FORMATS"]
+__all__ = ["Raw", "escape", "latex_unit", "latex_number", "table_latex", "mission_latex", "budget_latex", "astropy_latex",
+           "latex_provenance", "write_latex", "LATEX_FORMATS"]
 
 LATEX_FORMATS = {".tex": "latex"}
 
@@ -79,6 +81,15 @@ def latex_number(x, digits: int = 4) -> str:
     if x == int(x) and abs(x) < 1e6:
         return f"\\num{{{int(x)}}}"
     return f"\\num{{{x:.{digits}g}}}"
+
+
+def latex_provenance(mission_name: str, digest: str) -> dict:
+    """The comment lines of a LaTeX table: the tool, the mission it used and, from the command line,
+    the command that made it."""
+    prov = {"tool": f"gwclock {__version__}", "mission": f"{mission_name} (sha256 {digest})"}
+    if COMMAND:
+        prov["command"] = shlex.join(COMMAND)
+    return prov
 
 
 def _header(provenance) -> list[str]:

@@ -25,7 +25,7 @@ from ..files import atomic_path
 from ..studies.horizon import Z_MAX, horizon
 from ..studies.snr import TunedCurve, clock_snr, reference_snr
 from ..version import __version__
-from .latex import budget_latex, mission_latex
+from .latex import budget_latex, latex_provenance, mission_latex
 from .plotting import draw_scan, plot_budget_panels
 from .styles import StyleBook, reference_style
 from .summary import describe_mission, mission_rows
@@ -186,9 +186,7 @@ def build_report(mission, digest, out_dir):
     for name, data in figures.items():
         _write_atomic(out / f"{name}.png", data)
         _write_atomic(out / f"{name}.pdf", _pdf(drawn[name], f"gwclock {__version__}; mission sha256 {digest}"))
-    prov = {"tool": f"gwclock {__version__}", "mission": f"{mission.name} (sha256 {digest})"}
-    if meta.get("command"):
-        prov["command"] = meta["command"]
+    prov = latex_provenance(mission.name, digest)
     _write_atomic(out / "mission.tex", mission_latex(mission_rows(mission), mission.name, prov).encode())
     at = np.array([10.0**k for k in range(-4, 2)])
     _write_atomic(out / "budget.tex", budget_latex(envelope(design, at), mission.name, prov).encode())

@@ -10,6 +10,7 @@ import numpy as np
 from astropy.table import Column as _Column
 from astropy.table import Table
 
+from ..astro.references import OPTIMAL, SKY
 from ..constants import MSUN
 from ..files import COMMAND, TABLE_FORMATS, atomic_path, check_output_path
 from ..physics.noises import NOISES
@@ -149,7 +150,7 @@ def csv_table(table) -> Table:
         if unit is not None and unit.to_string():
             out[c].unit = None
             out.rename_column(c, f"{c} [{unit.to_string()}]")
-    if table.meta.get("convention") in ("sky-averaged", "optimal orientation") and \
+    if table.meta.get("convention") in (SKY, OPTIMAL) and \
             ({"asd", "psd"} & set(table.colnames)):
         out["convention"] = [table.meta["convention"]] * len(out)
         if "sky_factor" in table.meta:
